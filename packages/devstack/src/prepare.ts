@@ -1,0 +1,16 @@
+// Migrations and (in demo mode) the demo seed, run against DATABASE_URL before the server starts.
+import { getSequelize, closeDatabase } from '../../../src/lib/server/db';
+import { migrateUp } from '../../../src/lib/server/db/migrate';
+import { seedDemo, type SeedResult } from '../../../src/lib/server/demo/seed';
+
+export async function prepareDatabase(opts: { demo: boolean; log?: (s: string) => void }): Promise<SeedResult> {
+  const log = opts.log ?? (() => undefined);
+  try {
+    const applied = await migrateUp(getSequelize());
+    if (applied.length) log(`[isoledger] applied migrations: ${applied.join(', ')}`);
+    if (!opts.demo) return { created: false, accounts: [] };
+    return await seedDemo(log);
+  } finally {
+    await closeDatabase();
+  }
+}

@@ -1,0 +1,11 @@
+// Every migration, in order. A new one is a file NNNN-what.ts exporting up/down and a line here.
+import type { QueryInterface } from 'sequelize';
+import * as m0001 from './0001-accounts-and-audit';
+
+export interface Migration {
+  name: string;
+  up: (q: QueryInterface) => Promise<void>;
+  down: (q: QueryInterface) => Promise<void>;
+}
+
+export const migrations: Migration[] = [{ name: '0001-accounts-and-audit', ...m0001 }];
