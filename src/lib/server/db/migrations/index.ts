@@ -1,6 +1,7 @@
 // Every migration, in order. A new one is a file NNNN-what.ts exporting up/down and a line here.
 import type { QueryInterface } from 'sequelize';
 import * as m0001 from './0001-accounts-and-audit';
+import * as m0004 from './0004-verification-runs';
 
 export interface Migration {
   name: string;
@@ -8,4 +9,7 @@ export interface Migration {
   down: (q: QueryInterface) => Promise<void>;
 }
 
-export const migrations: Migration[] = [{ name: '0001-accounts-and-audit', ...m0001 }];
+export const migrations: Migration[] = [
+  { name: '0001-accounts-and-audit', ...m0001 },
+  { name: '0004-verification-runs', ...m0004 }
+];
