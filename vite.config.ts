@@ -22,6 +22,7 @@ export default defineConfig({
         test: {
           name: 'unit',
           include: ['tests/unit/**/*.test.ts'],
+          sequence: { groupOrder: 0 },
           testTimeout: 60_000
         }
       },
@@ -30,6 +31,7 @@ export default defineConfig({
         test: {
           name: 'integration',
           include: ['tests/integration/**/*.test.ts'],
+          sequence: { groupOrder: 1 },
           testTimeout: 120_000,
           hookTimeout: 180_000,
           maxWorkers: 2
@@ -40,6 +42,7 @@ export default defineConfig({
         test: {
           name: 'browser',
           include: ['tests/browser/**/*.test.ts'],
+          sequence: { groupOrder: 2 },
           testTimeout: 120_000,
           hookTimeout: 180_000,
           maxWorkers: 1

@@ -77,7 +77,9 @@ try {
     Object.assign(process.env, env);
     await prepareDatabase({ demo: true, log: console.log });
     buildIfStale();
-    const server = await startServer({ port: await freePort(), env, quiet: !process.env.ISOLEDGER_TEST_SERVER_LOG });
+    // the tests act from distinct client addresses (X-Forwarded-For), as behind a proxy
+    const serverEnv = { ...env, ADDRESS_HEADER: 'x-forwarded-for', XFF_DEPTH: '1' };
+    const server = await startServer({ port: await freePort(), env: serverEnv, quiet: !process.env.ISOLEDGER_TEST_SERVER_LOG });
     stops.push(server.stop);
     env.ISOLEDGER_TEST_URL = server.url;
     console.log(`[isoledger] test stack ready: server ${server.url}, database on 127.0.0.1:${db.port}`);
