@@ -6,7 +6,16 @@ import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync, wri
 import { join, relative } from 'node:path';
 import { ROOT } from './paths';
 
-const INPUTS = ['src', 'static', 'sandbox/src', 'packages', 'svelte.config.js', 'vite.config.ts', 'tsconfig.json', 'package-lock.json'];
+const INPUTS = [
+  'src',
+  'static',
+  'sandbox/src',
+  'packages',
+  'svelte.config.js',
+  'vite.config.ts',
+  'tsconfig.json',
+  'package-lock.json'
+];
 const SKIP = new Set(['node_modules', 'bin', 'catalogue-cache', '.svelte-kit']);
 const STAMP = join(ROOT, 'build', '.source-hash');
 
@@ -44,7 +53,8 @@ function withBuildLock(fn: () => void): void {
       break;
     } catch {
       // a lock older than 10 minutes is left over from a killed build
-      if (existsSync(LOCK) && Date.now() - statSync(LOCK).mtimeMs > 10 * 60_000) rmSync(LOCK, { recursive: true, force: true });
+      if (existsSync(LOCK) && Date.now() - statSync(LOCK).mtimeMs > 10 * 60_000)
+        rmSync(LOCK, { recursive: true, force: true });
       if (Date.now() > until) throw new Error(`could not take the build lock ${LOCK}`);
       Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, 500);
     }

@@ -29,10 +29,15 @@ function addresses(a: AddressObject | AddressObject[] | undefined): string[] {
 }
 
 /** file: a JSON-lines file that keeps the messages across restarts (omit for a throwaway sink) */
-export async function startMailSink(opts: { smtpPort: number; httpPort: number; file?: string }): Promise<RunningMailSink> {
+export async function startMailSink(opts: {
+  smtpPort: number;
+  httpPort: number;
+  file?: string;
+}): Promise<RunningMailSink> {
   const messages: StoredMessage[] = [];
   if (opts.file && existsSync(opts.file)) {
-    for (const line of readFileSync(opts.file, 'utf8').split('\n')) if (line.trim()) messages.push(JSON.parse(line));
+    for (const line of readFileSync(opts.file, 'utf8').split('\n'))
+      if (line.trim()) messages.push(JSON.parse(line));
   }
   if (opts.file) mkdirSync(dirname(opts.file), { recursive: true });
 
@@ -47,7 +52,9 @@ export async function startMailSink(opts: { smtpPort: number; httpPort: number; 
           const envelopeTo = session.envelope.rcptTo.map((r) => r.address);
           const msg: StoredMessage = {
             to: envelopeTo.length ? envelopeTo : addresses(parsed.to),
-            from: addresses(parsed.from)[0] ?? (session.envelope.mailFrom ? session.envelope.mailFrom.address : ''),
+            from:
+              addresses(parsed.from)[0] ??
+              (session.envelope.mailFrom ? session.envelope.mailFrom.address : ''),
             subject: parsed.subject ?? '',
             text: parsed.text ?? '',
             html: typeof parsed.html === 'string' ? parsed.html : null,

@@ -31,7 +31,8 @@ const asRoot = typeof process.getuid === 'function' && process.getuid() === 0;
 export function ensureMariaDbInstalled(): { server: string; installDb: string } {
   const server = ensureDebianPackage('mariadb-server', ['mariadbd', 'mysqld'], 'the local database');
   const installDb = findExecutable(['mariadb-install-db', 'mysql_install_db']);
-  if (!installDb) throw new Error('mariadb-install-db is missing although mariadbd is installed: reinstall mariadb-server');
+  if (!installDb)
+    throw new Error('mariadb-install-db is missing although mariadbd is installed: reinstall mariadb-server');
   return { server, installDb };
 }
 
@@ -72,7 +73,8 @@ export async function startMariaDb(opts: MariaDbOptions): Promise<RunningMariaDb
     '--max-connections=400',
     '--skip-log-bin'
   ];
-  if (opts.ephemeral) args.push('--innodb-flush-log-at-trx-commit=0', '--sync-binlog=0', '--innodb-doublewrite=0');
+  if (opts.ephemeral)
+    args.push('--innodb-flush-log-at-trx-commit=0', '--sync-binlog=0', '--innodb-doublewrite=0');
   if (asRoot) args.push('--user=root');
   const child: ChildProcess = spawn(server, args, { stdio: 'ignore', detached: false });
   let exited = false;
@@ -80,11 +82,14 @@ export async function startMariaDb(opts: MariaDbOptions): Promise<RunningMariaDb
     exited = true;
   });
 
-  const rootConnect = () => createConnection({ socketPath: socket, user: 'root', password: '', connectTimeout: 2000 });
+  const rootConnect = () =>
+    createConnection({ socketPath: socket, user: 'root', password: '', connectTimeout: 2000 });
   await waitFor('MariaDB', async () => {
     if (exited) {
       const log = existsSync(logFile) ? readFileSync(logFile, 'utf8').split('\n').slice(-15).join('\n') : '';
-      throw new Error(`mariadbd exited during start-up (port ${opts.port}); last lines of ${logFile}:\n${log}`);
+      throw new Error(
+        `mariadbd exited during start-up (port ${opts.port}); last lines of ${logFile}:\n${log}`
+      );
     }
     const c = await rootConnect();
     await c.end();
@@ -94,7 +99,9 @@ export async function startMariaDb(opts: MariaDbOptions): Promise<RunningMariaDb
   const grant = async (db: string) => {
     const c = await rootConnect();
     try {
-      await c.query(`CREATE DATABASE IF NOT EXISTS \`${db}\` CHARACTER SET utf8mb4 COLLATE utf8mb4_unicode_ci`);
+      await c.query(
+        `CREATE DATABASE IF NOT EXISTS \`${db}\` CHARACTER SET utf8mb4 COLLATE utf8mb4_unicode_ci`
+      );
       for (const host of ['127.0.0.1', 'localhost']) {
         await c.query(`CREATE USER IF NOT EXISTS ?@? IDENTIFIED BY ?`, [opts.user, host, opts.password]);
         await c.query(`GRANT ALL PRIVILEGES ON \`${db}\`.* TO ?@?`, [opts.user, host]);

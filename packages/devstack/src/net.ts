@@ -14,7 +14,12 @@ export function freePort(): Promise<number> {
   });
 }
 
-export async function waitFor(what: string, probe: () => Promise<boolean>, timeoutMs = 60_000, everyMs = 200): Promise<void> {
+export async function waitFor(
+  what: string,
+  probe: () => Promise<boolean>,
+  timeoutMs = 60_000,
+  everyMs = 200
+): Promise<void> {
   const until = Date.now() + timeoutMs;
   let lastError: unknown;
   while (Date.now() < until) {
@@ -25,5 +30,7 @@ export async function waitFor(what: string, probe: () => Promise<boolean>, timeo
     }
     await new Promise((r) => setTimeout(r, everyMs));
   }
-  throw new Error(`${what} did not become ready within ${timeoutMs / 1000} s${lastError ? `: ${String(lastError)}` : ''}`);
+  throw new Error(
+    `${what} did not become ready within ${timeoutMs / 1000} s${lastError ? `: ${String(lastError)}` : ''}`
+  );
 }

@@ -18,7 +18,11 @@ export function nodeFlags(): string[] {
   return ['--no-node-snapshot', '--import', require.resolve('tsx')];
 }
 
-export async function startServer(opts: { port: number; env: Record<string, string>; quiet?: boolean }): Promise<RunningServer> {
+export async function startServer(opts: {
+  port: number;
+  env: Record<string, string>;
+  quiet?: boolean;
+}): Promise<RunningServer> {
   const url = `http://127.0.0.1:${opts.port}`;
   const child = spawn(process.execPath, [...nodeFlags(), join(ROOT, 'build', 'index.js')], {
     cwd: ROOT,
@@ -28,6 +32,8 @@ export async function startServer(opts: { port: number; env: Record<string, stri
       HOST: '127.0.0.1',
       PORT: String(opts.port),
       ORIGIN: opts.env.ORIGIN ?? url,
+      // attachments may be up to 10 MB; adapter-node refuses larger bodies before our routes see them
+      BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '11M',
       ...opts.env
     },
     stdio: ['ignore', opts.quiet ? 'ignore' : 'inherit', 'inherit']
@@ -36,11 +42,15 @@ export async function startServer(opts: { port: number; env: Record<string, stri
   child.on('exit', (code) => {
     exited = code ?? -1;
   });
-  await waitFor('the Isoledger server', async () => {
-    if (exited !== null) throw new Error(`the server exited with code ${exited} during start-up`);
-    const r = await fetch(`${url}/api/v1/health`);
-    return r.ok;
-  }, 90_000);
+  await waitFor(
+    'the Isoledger server',
+    async () => {
+      if (exited !== null) throw new Error(`the server exited with code ${exited} during start-up`);
+      const r = await fetch(`${url}/api/v1/health`);
+      return r.ok;
+    },
+    90_000
+  );
   return {
     url,
     process: child,

@@ -47,7 +47,11 @@ try {
     password: localSecret()
   });
   stops.push(db.stop);
-  const mail = await startMailSink({ smtpPort: 4312, httpPort: 4313, file: join(DATA, 'mail', 'messages.jsonl') });
+  const mail = await startMailSink({
+    smtpPort: 4312,
+    httpPort: 4313,
+    file: join(DATA, 'mail', 'messages.jsonl')
+  });
   stops.push(mail.stop);
   const s3 = await startS3({ port: 4314, directory: join(DATA, 's3'), bucket: 'isoledger-attachments' });
   stops.push(s3.stop);
@@ -63,7 +67,7 @@ try {
     ISOLEDGER_DEMO: '1'
   };
   Object.assign(process.env, env);
-  const seeded = await prepareDatabase({ demo: true, log: console.log });
+  const seeded = await prepareDatabase({ demo: true, catalogue: true, log: console.log });
 
   buildIfStale();
   const server = await startServer({ port, env });

@@ -2,7 +2,10 @@
 import { execFileSync, spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
 
-export function findExecutable(names: string[], extraDirs: string[] = ['/usr/sbin', '/usr/bin', '/usr/local/bin', '/usr/local/sbin']): string | null {
+export function findExecutable(
+  names: string[],
+  extraDirs: string[] = ['/usr/sbin', '/usr/bin', '/usr/local/bin', '/usr/local/sbin']
+): string | null {
   for (const name of names) {
     const r = spawnSync('sh', ['-c', `command -v ${name}`], { encoding: 'utf8' });
     if (r.status === 0 && r.stdout.trim()) return r.stdout.trim();
@@ -20,7 +23,9 @@ export function ensureDebianPackage(pkg: string, executables: string[], why: str
   const found = findExecutable(executables);
   if (found) return found;
   if (!isRoot()) {
-    throw new Error(`${why} needs ${executables[0]}, which is not installed. Run:\n  sudo apt-get update && sudo apt-get install -y ${pkg}`);
+    throw new Error(
+      `${why} needs ${executables[0]}, which is not installed. Run:\n  sudo apt-get update && sudo apt-get install -y ${pkg}`
+    );
   }
   console.log(`[isoledger] installing Debian's ${pkg} (${why}) …`);
   const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' };

@@ -32,11 +32,15 @@ async function cleanup(): Promise<void> {
 
 function runVitest(env: Record<string, string>): Promise<number> {
   return new Promise((res) => {
-    const child = spawn(process.execPath, [...nodeFlags(), join(ROOT, 'node_modules', 'vitest', 'vitest.mjs'), 'run', ...args], {
-      cwd: ROOT,
-      stdio: 'inherit',
-      env: { ...process.env, ...env }
-    });
+    const child = spawn(
+      process.execPath,
+      [...nodeFlags(), join(ROOT, 'node_modules', 'vitest', 'vitest.mjs'), 'run', ...args],
+      {
+        cwd: ROOT,
+        stdio: 'inherit',
+        env: { ...process.env, ...env }
+      }
+    );
     const forward = (sig: NodeJS.Signals) => child.kill(sig);
     process.on('SIGINT', forward);
     process.on('SIGTERM', forward);
@@ -49,7 +53,9 @@ try {
   const env: Record<string, string> = { ISOLEDGER_ARTIFACTS: join(ROOT, 'test-artifacts') };
   mkdirSync(env.ISOLEDGER_ARTIFACTS, { recursive: true });
   if (!unitOnly) {
-    env.CHROMIUM_PATH = process.env.CHROMIUM_PATH ?? ensureDebianPackage('chromium', ['chromium', 'chromium-browser'], 'the browser tests');
+    env.CHROMIUM_PATH =
+      process.env.CHROMIUM_PATH ??
+      ensureDebianPackage('chromium', ['chromium', 'chromium-browser'], 'the browser tests');
     const db = await startMariaDb({
       dataDir: join(tmp, 'mariadb'),
       port: await freePort(),
@@ -61,7 +67,11 @@ try {
     stops.push(db.stop);
     const mail = await startMailSink({ smtpPort: await freePort(), httpPort: await freePort() });
     stops.push(mail.stop);
-    const s3 = await startS3({ port: await freePort(), directory: join(tmp, 's3'), bucket: 'isoledger-test' });
+    const s3 = await startS3({
+      port: await freePort(),
+      directory: join(tmp, 's3'),
+      bucket: 'isoledger-test'
+    });
     stops.push(s3.stop);
     Object.assign(env, {
       DATABASE_URL: db.url,
@@ -79,7 +89,11 @@ try {
     buildIfStale();
     // the tests act from distinct client addresses (X-Forwarded-For), as behind a proxy
     const serverEnv = { ...env, ADDRESS_HEADER: 'x-forwarded-for', XFF_DEPTH: '1' };
-    const server = await startServer({ port: await freePort(), env: serverEnv, quiet: !process.env.ISOLEDGER_TEST_SERVER_LOG });
+    const server = await startServer({
+      port: await freePort(),
+      env: serverEnv,
+      quiet: !process.env.ISOLEDGER_TEST_SERVER_LOG
+    });
     stops.push(server.stop);
     env.ISOLEDGER_TEST_URL = server.url;
     console.log(`[isoledger] test stack ready: server ${server.url}, database on 127.0.0.1:${db.port}`);

@@ -143,17 +143,25 @@ export interface ChainVerdict {
   firstBrokenId: number | null;
 }
 
-/** Re-hashes the whole chain in id order and names the first event whose content or link is wrong. */
+/**
+ * Re-hashes the whole chain in id order and names the first event whose content or link is wrong.
+ * The head is read first, so events appended while the check runs are simply not part of it.
+ */
 export async function verifyAuditChain(batch = 2000): Promise<ChainVerdict> {
   const sequelize = getSequelize();
+  const [head] = await sequelize.query<{ last_id: number | string; last_hash: string }>(
+    'SELECT last_id, last_hash FROM audit_head WHERE id = 1',
+    { type: QueryTypes.SELECT }
+  );
+  const headId = head ? Number(head.last_id) : 0;
   let prev = GENESIS;
   let expectedId = 1;
   let count = 0;
   let lastId = 0;
-  for (;;) {
+  while (lastId < headId) {
     const rows = await sequelize.query<AuditRow>(
-      'SELECT * FROM audit_events WHERE id > ? ORDER BY id LIMIT ?',
-      { type: QueryTypes.SELECT, replacements: [lastId, batch] }
+      'SELECT * FROM audit_events WHERE id > ? AND id <= ? ORDER BY id LIMIT ?',
+      { type: QueryTypes.SELECT, replacements: [lastId, headId, batch] }
     );
     if (rows.length === 0) break;
     for (const row of rows) {
@@ -166,12 +174,8 @@ export async function verifyAuditChain(batch = 2000): Promise<ChainVerdict> {
       count++;
     }
   }
-  const [head] = await sequelize.query<{ last_id: number | string; last_hash: string }>(
-    'SELECT last_id, last_hash FROM audit_head WHERE id = 1',
-    { type: QueryTypes.SELECT }
-  );
   // a deleted tail shows as a head that points past the last stored event
-  if (head && (Number(head.last_id) !== lastId || head.last_hash !== prev)) {
+  if (head && (headId !== lastId || head.last_hash !== prev)) {
     return { ok: false, events: count, firstBrokenId: lastId + 1 };
   }
   return { ok: true, events: count, firstBrokenId: null };
