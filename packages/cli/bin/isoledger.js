@@ -7,7 +7,11 @@ import { createRequire } from 'node:module';
 const require = createRequire(import.meta.url);
 const entry = fileURLToPath(new URL('../src/main.ts', import.meta.url));
 const tsx = require.resolve('tsx');
-const result = spawnSync(process.execPath, ['--no-node-snapshot', '--import', tsx, entry, ...process.argv.slice(2)], {
-  stdio: 'inherit'
-});
+const result = spawnSync(
+  process.execPath,
+  ['--no-node-snapshot', '--import', tsx, entry, ...process.argv.slice(2)],
+  {
+    stdio: 'inherit'
+  }
+);
 process.exit(result.status ?? 1);
