@@ -3,17 +3,22 @@ import { add, det, inv, lusolve, matrix, multiply, sparse, transpose, type Matri
 import {
   type Material,
   type Mesh,
+  type QuadratureRule,
+  SparseSymmetric,
   assemble,
+  chooseOrdering,
   elasticityMatrix,
   elementCoords,
   elementDofMap,
   elementStiffness,
   gaussRule,
   nodesWhere,
+  orderingCandidates,
+  simplexRule,
   solveWithDirichlet,
   structuredMesh
 } from '../../packages/kernel/src/index';
-import { HEX8, Q4, tabulate, type FixtureElement } from '../unit/kernel/fixtures';
+import { HEX8, Q4, T10, tabulate, type FixtureElement } from '../unit/kernel/fixtures';
 import type { BenchRow } from './report';
 import { medianMs, throughput } from './report';
 
@@ -110,9 +115,14 @@ interface Problem {
   f: Float64Array;
 }
 
+/** The element's stiffness rule: 2 × 2 (× 2) Gauss on tensor cells, the degree-2 rule on tetrahedra (exact for T10 on straight tetrahedra). */
+function stiffnessRule(el: FixtureElement): QuadratureRule {
+  return el.cell === 'tetrahedron' ? simplexRule('tetrahedron', 2) : gaussRule(el.cell as 'quadrilateral', 2);
+}
+
 /** Unit square or cube, clamped at x = 0, a unit load at the last node in −y. */
 function cantilever(el: FixtureElement, divisions: number): Problem {
-  const mesh = structuredMesh(el.cell, divisions);
+  const mesh = structuredMesh(el.cell, divisions, { referenceNodes: el.nodes });
   const dpn = mesh.dim;
   const fixed = Int32Array.from(
     [...nodesWhere(mesh, ([x]) => x === 0)].flatMap((i) => Array.from({ length: dpn }, (_, k) => i * dpn + k))
@@ -122,10 +132,10 @@ function cantilever(el: FixtureElement, divisions: number): Problem {
   return { mesh, el, kind: dpn === 2 ? 'plane-stress' : 'solid', fixed, f };
 }
 
-/** Element stiffnesses, assembly and the Dirichlet solve: the work of one linear analysis. */
-function analyse(p: Problem): Float64Array {
+/** Element stiffnesses and assembly. */
+function stiffness(p: Problem): SparseSymmetric {
   const { mesh, el, kind } = p;
-  const rule = gaussRule(el.cell as 'quadrilateral', 2);
+  const rule = stiffnessRule(el);
   const tab = tabulate(el, rule.points);
   const dpn = mesh.dim;
   const edof = mesh.elementNodes * dpn;
@@ -142,8 +152,52 @@ function analyse(p: Problem): Float64Array {
       Ke.subarray(e * edof * edof, (e + 1) * edof * edof)
     );
   }
-  const K = assemble(mesh.nodeCount * dpn, elementDofMap(mesh.elements, dpn), Ke, edof);
-  return solveWithDirichlet(K, p.f, p.fixed, new Float64Array(p.fixed.length)).u;
+  return assemble(mesh.nodeCount * dpn, elementDofMap(mesh.elements, dpn), Ke, edof);
+}
+
+/** Element stiffnesses, assembly and the Dirichlet solve: the work of one linear analysis. */
+function analyse(p: Problem): Float64Array {
+  return solveWithDirichlet(stiffness(p), p.f, p.fixed, new Float64Array(p.fixed.length)).u;
+}
+
+/** The matrix of the free dofs, as solveWithDirichlet factors it. */
+function freeMatrix(p: Problem): SparseSymmetric {
+  const K = stiffness(p);
+  const isFixed = new Uint8Array(K.n);
+  for (const d of p.fixed) isFixed[d] = 1;
+  const map = new Int32Array(K.n).fill(-1);
+  let nf = 0;
+  for (let i = 0; i < K.n; i++) if (!isFixed[i]) map[i] = nf++;
+  const Kf = new SparseSymmetric(nf, K.nnz);
+  const rp = K.rowPtr!;
+  for (let i = 0; i < K.n; i++)
+    if (map[i] >= 0)
+      for (let q = rp[i]; q < rp[i + 1]; q++)
+        if (map[K.cols[q]] >= 0) Kf.add(map[i], map[K.cols[q]], K.values[q]);
+  return Kf.build();
+}
+
+const ORDERING_NAME = { 'minimum-degree': 'minimum degree', 'nested-dissection': 'nested dissection' };
+
+/** The fill and operation count of the ordering the solve takes, each beside the other candidate's. */
+function reportOrdering(report: (row: BenchRow) => void, label: string, p: Problem): void {
+  const candidates = orderingCandidates(freeMatrix(p));
+  const chosen = chooseOrdering(candidates);
+  const other = candidates.find((c) => c !== chosen)!;
+  report({
+    name: `${label}: nnz(L), ${ORDERING_NAME[chosen.method]} (chosen)`,
+    value: chosen.fill,
+    unit: 'nnz',
+    higherIsBetter: false,
+    baseline: { name: ORDERING_NAME[other.method], value: other.fill }
+  });
+  report({
+    name: `${label}: factorisation Σ c_j², ${ORDERING_NAME[chosen.method]}`,
+    value: chosen.flops,
+    unit: 'flop',
+    higherIsBetter: false,
+    baseline: { name: ORDERING_NAME[other.method], value: other.flops }
+  });
 }
 
 /** The 32 × 32 reduced system solved by mathjs sparse lusolve. */
@@ -225,6 +279,17 @@ export default async function run(report: (row: BenchRow) => void): Promise<void
     unit: 'ms',
     higherIsBetter: false
   });
+  reportOrdering(report, 'Hex8 16³ cube', cube);
+  // ten-node tetrahedra, 6 per cube cell (Kuhn split), on a 9³ grid: (2·9 + 1)³ nodes
+  const tets = cantilever(T10, 9);
+  analyse(tets);
+  report({
+    name: `T10 9³ cube, ${tets.f.length - tets.fixed.length} free dofs: K, assembly, solve`,
+    value: await medianMs(() => analyse(tets), 3),
+    unit: 'ms',
+    higherIsBetter: false
+  });
+  reportOrdering(report, 'T10 9³ cube', tets);
   report({
     name: 'peak resident set size',
     value: process.resourceUsage().maxRSS / 1024,

@@ -167,12 +167,31 @@ const DATA: Record<CellName, CellData> = {
 
 /** The reference cell of the given name (a fresh object: callers may keep or change it freely). */
 export function referenceCell(name: CellName): ReferenceCell {
-  const d = DATA[name];
-  if (!d)
+  if (!Object.hasOwn(DATA, name))
     throw new KernelError(
       'invalid-input',
       `unknown cell '${String(name)}'; expected one of ${CELL_NAMES.join(', ')}`
     );
+  return buildCell(name);
+}
+
+const SHARED = new Map<CellName, ReferenceCell>();
+
+/**
+ * The kernel's own shared copy of a reference cell, built once: read it, never change it (the public
+ * `referenceCell` hands out fresh objects that callers may change).
+ */
+export function sharedCell(name: CellName): ReferenceCell {
+  let c = SHARED.get(name);
+  if (!c) {
+    c = referenceCell(name);
+    SHARED.set(name, c);
+  }
+  return c;
+}
+
+function buildCell(name: CellName): ReferenceCell {
+  const d = DATA[name];
   const dim = d.dim;
   const vertices = Float64Array.from(d.vertices.flat());
   const facets = d.faces.map((f) => f.slice());

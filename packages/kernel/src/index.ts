@@ -63,10 +63,16 @@ export {
   CholeskyFactor,
   PIVOT_RELATIVE_TOLERANCE,
   choleskyFactor,
-  fillReducingOrdering,
   solveSymmetric,
   solveWithDirichlet
 } from './cholesky';
+export {
+  type OrderingMethod,
+  type OrderingPrediction,
+  chooseOrdering,
+  fillReducingOrdering,
+  orderingCandidates
+} from './ordering';
 export { SYMMETRY_TOLERANCE, symmetricEigen } from './eigen';
 export {
   type MacroCellName,

@@ -1,4 +1,4 @@
-import { type CellName, CONTAINMENT_TOLERANCE, referenceCell } from './cells';
+import { type CellName, CONTAINMENT_TOLERANCE, sharedCell } from './cells';
 import type { Material } from './elasticity';
 import { KernelError, requireFinite, requireInput } from './errors';
 import { seededUniform } from './random';
@@ -65,9 +65,9 @@ const DIM: Record<MacroCellName, 1 | 2 | 3> = { interval: 1, quadrilateral: 2, h
 
 // reference vertices and edges of the macro cells (constant data)
 const MACRO_REF = {
-  interval: referenceCell('interval'),
-  quadrilateral: referenceCell('quadrilateral'),
-  hexahedron: referenceCell('hexahedron')
+  interval: sharedCell('interval'),
+  quadrilateral: sharedCell('quadrilateral'),
+  hexahedron: sharedCell('hexahedron')
 } as const;
 
 /** Multilinear shape functions of the macro cell's vertices at ξ: N_v = Π_k (1 + ξ_vk ξ_k)/2. */
@@ -86,11 +86,12 @@ function multilinearJacobian(
   cell: MacroCellName,
   verts: Float64Array,
   ids: ArrayLike<number>,
-  xi: ArrayLike<number>
+  xi: ArrayLike<number>,
+  J = new Float64Array(9)
 ): number {
   const ref = MACRO_REF[cell];
   const dim = ref.dim;
-  const J = new Float64Array(dim * dim);
+  J.fill(0);
   for (let a = 0; a < ref.vertexCount; a++) {
     for (let m = 0; m < dim; m++) {
       // ∂N_a/∂ξ_m
@@ -156,8 +157,11 @@ export function definePatch(
   return patch;
 }
 
+const CENTRE = [0, 0, 0] as const;
+
 function checkPatch(p: MacroPatch): void {
   const nc = CORNERS[p.cell];
+  const J = new Float64Array(9);
   requireInput(
     nc !== undefined,
     () => `macro cells are interval, quadrilateral or hexahedron, not '${String(p.cell)}'`
@@ -181,7 +185,7 @@ function checkPatch(p: MacroPatch): void {
       }
     }
     // the centre decides orientation; elements check det J at their own quadrature points
-    const det = multilinearJacobian(p.cell, p.vertices, ids, [0, 0, 0]);
+    const det = multilinearJacobian(p.cell, p.vertices, ids, CENTRE, J);
     if (!(det > 0)) {
       throw new KernelError(
         'macro-cell-inverted',
@@ -192,60 +196,208 @@ function checkPatch(p: MacroPatch): void {
   }
 }
 
-/** Merges points closer than `tol` (max-norm) through a hash grid of cell 4·tol; ids in first-seen order. */
+/** Open-addressing tables start at this many slots and double past half full. */
+const MIN_TABLE = 64;
+
+/** Mixes integer coordinates into a table slot; collisions only cost a probe. */
+function mix(i: number, j: number, k: number): number {
+  return (Math.imul(i | 0, 73856093) ^ Math.imul(j | 0, 19349663) ^ Math.imul(k | 0, 83492791)) >>> 0;
+}
+
+/**
+ * Merges points closer than `tol` (max-norm), ids in first-seen order. Points fall in cubic cells of edge
+ * 4·tol with integer coordinates, kept in an open-addressing table (each cell lists its points in insertion
+ * order); a query visits only the neighbouring cells that lie within tol of the point along each axis.
+ */
 class NodeMerger {
-  readonly coords: number[] = [];
-  private readonly buckets = new Map<number, number[]>();
+  count = 0;
+  coords: Float64Array;
   private readonly size: number;
+  /** the integer cell of each point (3 per point) and the next point in the same cell */
+  private cell: Float64Array;
+  private nextInCell: Int32Array;
+  /** table slot → first and last point of its cell, −1 when empty */
+  private first: Int32Array;
+  private lastOf: Int32Array;
+  private used = 0;
+
   constructor(
     private readonly dim: number,
-    private readonly tol: number
+    private readonly tol: number,
+    expected = 64
   ) {
     this.size = 4 * tol;
+    const cap = Math.max(16, expected);
+    this.coords = new Float64Array(cap * dim);
+    this.cell = new Float64Array(cap * 3);
+    this.nextInCell = new Int32Array(cap);
+    let slots = MIN_TABLE;
+    while (slots < 2 * cap) slots *= 2;
+    this.first = new Int32Array(slots).fill(-1);
+    this.lastOf = new Int32Array(slots).fill(-1);
   }
 
-  get count(): number {
-    return this.coords.length / this.dim;
+  /** The integer cell coordinate of x (0 for every point when the tolerance is zero or the quotient is not finite). */
+  private cellOf(x: number): number {
+    const c = Math.floor(x / this.size);
+    return Number.isFinite(c) ? c : 0;
   }
 
-  /** Hash of integer cell coordinates; collisions only cost a distance test. */
-  private static key(i: number, j: number, k: number): number {
-    return (Math.imul(i | 0, 73856093) ^ Math.imul(j | 0, 19349663) ^ Math.imul(k | 0, 83492791)) >>> 0;
+  /** The slot of cell (i, j, k), or of the empty slot where it would go. */
+  private slot(i: number, j: number, k: number): number {
+    const mask = this.first.length - 1;
+    let h = mix(i, j, k) & mask;
+    for (;;) {
+      const id = this.first[h];
+      if (id < 0) return h;
+      const c = this.cell;
+      if (c[3 * id] === i && c[3 * id + 1] === j && c[3 * id + 2] === k) return h;
+      h = (h + 1) & mask;
+    }
   }
 
-  add(p: ArrayLike<number>): number {
-    const { dim, tol, size } = this;
-    const c0 = Math.floor(p[0] / size);
-    const c1 = dim > 1 ? Math.floor(p[1] / size) : 0;
-    const c2 = dim > 2 ? Math.floor(p[2] / size) : 0;
-    const r1 = dim > 1 ? 1 : 0;
-    const r2 = dim > 2 ? 1 : 0;
-    for (let a = -1; a <= 1; a++)
-      for (let b = -r1; b <= r1; b++)
-        for (let c = -r2; c <= r2; c++) {
-          const list = this.buckets.get(NodeMerger.key(c0 + a, c1 + b, c2 + c));
-          if (!list) continue;
-          for (const id of list) {
-            let close = true;
-            for (let k = 0; k < dim; k++) if (Math.abs(this.coords[id * dim + k] - p[k]) > tol) close = false;
-            if (close) return id;
+  private grow(): void {
+    const cap = this.nextInCell.length * 2;
+    const coords = new Float64Array(cap * this.dim);
+    coords.set(this.coords);
+    this.coords = coords;
+    const cell = new Float64Array(cap * 3);
+    cell.set(this.cell);
+    this.cell = cell;
+    const next = new Int32Array(cap);
+    next.set(this.nextInCell);
+    this.nextInCell = next;
+  }
+
+  private rehash(): void {
+    const oldFirst = this.first;
+    const oldLast = this.lastOf;
+    this.first = new Int32Array(oldFirst.length * 2).fill(-1);
+    this.lastOf = new Int32Array(oldFirst.length * 2).fill(-1);
+    const c = this.cell;
+    for (let h = 0; h < oldFirst.length; h++) {
+      const id = oldFirst[h];
+      if (id < 0) continue;
+      const s = this.slot(c[3 * id], c[3 * id + 1], c[3 * id + 2]);
+      this.first[s] = id;
+      this.lastOf[s] = oldLast[h];
+    }
+  }
+
+  /** The range of cells along one axis that can hold a point within tol of x (widened by the rounding of x ± tol). */
+  private range(x: number, c: number, out: Int32Array, at: number): void {
+    const margin = 2 * this.tol + 4 * Number.EPSILON * Math.abs(x);
+    out[at] = Math.max(c - 1, this.cellOf(x - margin)) - c;
+    out[at + 1] = Math.min(c + 1, this.cellOf(x + margin)) - c;
+  }
+
+  private readonly span = new Int32Array(6);
+
+  /** The id of the point within tol of p (the first found), or a new id. Reads p[offset … offset + dim). */
+  add(p: ArrayLike<number>, offset = 0): number {
+    const { dim, tol, span } = this;
+    const x0 = p[offset];
+    const x1 = dim > 1 ? p[offset + 1] : 0;
+    const x2 = dim > 2 ? p[offset + 2] : 0;
+    const c0 = this.cellOf(x0);
+    const c1 = dim > 1 ? this.cellOf(x1) : 0;
+    const c2 = dim > 2 ? this.cellOf(x2) : 0;
+    this.range(x0, c0, span, 0);
+    if (dim > 1) this.range(x1, c1, span, 2);
+    else span[2] = span[3] = 0;
+    if (dim > 2) this.range(x2, c2, span, 4);
+    else span[4] = span[5] = 0;
+    const X = this.coords;
+    for (let a = span[0]; a <= span[1]; a++)
+      for (let b = span[2]; b <= span[3]; b++)
+        for (let c = span[4]; c <= span[5]; c++) {
+          for (let id = this.first[this.slot(c0 + a, c1 + b, c2 + c)]; id >= 0; id = this.nextInCell[id]) {
+            const q = id * dim;
+            if (
+              !(Math.abs(X[q] - x0) > tol) &&
+              (dim < 2 || !(Math.abs(X[q + 1] - x1) > tol)) &&
+              (dim < 3 || !(Math.abs(X[q + 2] - x2) > tol))
+            )
+              return id;
           }
         }
-    const id = this.count;
-    for (let k = 0; k < dim; k++) this.coords.push(p[k]);
-    const key = NodeMerger.key(c0, c1, c2);
-    const list = this.buckets.get(key);
-    if (list) list.push(id);
-    else this.buckets.set(key, [id]);
+    const id = this.count++;
+    if (id === this.nextInCell.length) this.grow();
+    for (let k = 0; k < dim; k++) this.coords[id * dim + k] = p[offset + k];
+    this.cell[3 * id] = c0;
+    this.cell[3 * id + 1] = c1;
+    this.cell[3 * id + 2] = c2;
+    this.nextInCell[id] = -1;
+    const s = this.slot(c0, c1, c2);
+    if (this.first[s] < 0) {
+      this.first[s] = id;
+      this.used++;
+    } else this.nextInCell[this.lastOf[s]] = id;
+    this.lastOf[s] = id;
+    if (2 * this.used > this.first.length) this.rehash();
     return id;
+  }
+
+  /** nodeCount × dim coordinates of the merged points. */
+  points(): Float64Array {
+    return this.coords.slice(0, this.count * this.dim);
   }
 }
 
-/** A sub-cell of the mesh: its corner vertex ids (for facet identity) and the map of reference points into it. */
+/**
+ * Counts facets given by their sorted corner ids (1 to 4 of them) in an open-addressing table:
+ * `add` returns the facet's entry, `uses` how often each entry was added.
+ */
+class FacetTable {
+  private keys: Int32Array;
+  private entryOf: Int32Array;
+  readonly uses: Int32Array;
+  private count = 0;
+  constructor(
+    private readonly width: number,
+    capacity: number
+  ) {
+    let slots = MIN_TABLE;
+    while (slots < 2 * capacity) slots *= 2;
+    this.keys = new Int32Array(capacity * width);
+    this.entryOf = new Int32Array(slots).fill(-1);
+    this.uses = new Int32Array(capacity);
+  }
+
+  add(key: Int32Array): number {
+    const w = this.width;
+    const mask = this.entryOf.length - 1;
+    let h =
+      (mix(key[0], w > 1 ? key[1] : 0, w > 2 ? key[2] : 0) ^ Math.imul(w > 3 ? key[3] : 0, 2654435761)) &
+      mask;
+    for (;;) {
+      const e = this.entryOf[h];
+      if (e < 0) break;
+      let same = true;
+      for (let t = 0; t < w; t++) if (this.keys[e * w + t] !== key[t]) same = false;
+      if (same) {
+        this.uses[e]++;
+        return e;
+      }
+      h = (h + 1) & mask;
+    }
+    const e = this.count++;
+    for (let t = 0; t < w; t++) this.keys[e * w + t] = key[t];
+    this.entryOf[h] = e;
+    this.uses[e] = 1;
+    return e;
+  }
+}
+
+/**
+ * A sub-cell of the mesh: its corner vertex ids (for facet identity) and how reference points map into it:
+ * the macro cell's own multilinear map (pts null) or the affine map of a simplex with corner coordinates pts.
+ */
 interface SubCell {
   macro: number;
   corners: number[];
-  map: (xi: ArrayLike<number>, out: Float64Array) => void;
+  /** simplex corner coordinates, corners × dim */
+  pts: Float64Array | null;
   minEdge: number;
 }
 
@@ -255,18 +407,26 @@ function distance(a: ArrayLike<number>, b: ArrayLike<number>): number {
   return Math.sqrt(s);
 }
 
+/** The distance between vertices ia and ib of V (vertices × dim). */
+function vertexDistance(V: Float64Array, dim: number, ia: number, ib: number): number {
+  let s = 0;
+  for (let k = 0; k < dim; k++) s += (V[ia * dim + k] - V[ib * dim + k]) ** 2;
+  return Math.sqrt(s);
+}
+
 function simplexVolume(p: Float64Array[]): number {
   if (p.length === 3)
     return ((p[1][0] - p[0][0]) * (p[2][1] - p[0][1]) - (p[2][0] - p[0][0]) * (p[1][1] - p[0][1])) / 2;
-  const a = [0, 1, 2].map((k) => p[1][k] - p[0][k]);
-  const b = [0, 1, 2].map((k) => p[2][k] - p[0][k]);
-  const c = [0, 1, 2].map((k) => p[3][k] - p[0][k]);
-  return (
-    (a[0] * (b[1] * c[2] - b[2] * c[1]) -
-      a[1] * (b[0] * c[2] - b[2] * c[0]) +
-      a[2] * (b[0] * c[1] - b[1] * c[0])) /
-    6
-  );
+  const a0 = p[1][0] - p[0][0];
+  const a1 = p[1][1] - p[0][1];
+  const a2 = p[1][2] - p[0][2];
+  const b0 = p[2][0] - p[0][0];
+  const b1 = p[2][1] - p[0][1];
+  const b2 = p[2][2] - p[0][2];
+  const c0 = p[3][0] - p[0][0];
+  const c1 = p[3][1] - p[0][1];
+  const c2 = p[3][2] - p[0][2];
+  return (a0 * (b1 * c2 - b2 * c1) - a1 * (b0 * c2 - b2 * c0) + a2 * (b0 * c1 - b1 * c0)) / 6;
 }
 
 function simplexSubCell(macro: number, ids: number[], pts: Float64Array[]): SubCell {
@@ -278,18 +438,9 @@ function simplexSubCell(macro: number, ids: number[], pts: Float64Array[]): SubC
   let minEdge = Infinity;
   for (let a = 0; a < pts.length; a++)
     for (let b = a + 1; b < pts.length; b++) minEdge = Math.min(minEdge, distance(pts[a], pts[b]));
-  return {
-    macro,
-    corners: ids,
-    minEdge,
-    map: (xi, out) => {
-      for (let k = 0; k < dim; k++) {
-        let x = pts[0][k];
-        for (let v = 1; v < pts.length; v++) x += xi[v - 1] * (pts[v][k] - pts[0][k]);
-        out[k] = x;
-      }
-    }
-  };
+  const flat = new Float64Array(pts.length * dim);
+  pts.forEach((p, v) => flat.set(p, v * dim));
+  return { macro, corners: ids, pts: flat, minEdge };
 }
 
 // hexahedron corner bits (x + 2y + 4z) → local vertex (the map is its own inverse)
@@ -309,27 +460,14 @@ function subCells(cell: CellName, macro: MacroPatch): SubCell[] {
   const dim = macro.dim;
   const V = macro.vertices;
   const point = (id: number) => V.slice(id * dim, id * dim + dim);
+  const edges = MACRO_REF[macro.cell].edges;
   const out: SubCell[] = [];
   for (let c = 0; c < macro.cellCount; c++) {
     const ids = Array.from(macro.cells.subarray(c * nc, c * nc + nc));
     if (cell === macro.cell) {
-      const n = new Float64Array(nc);
       let minEdge = Infinity;
-      for (const [a, b] of MACRO_REF[macro.cell].edges)
-        minEdge = Math.min(minEdge, distance(point(ids[a]), point(ids[b])));
-      out.push({
-        macro: c,
-        corners: ids,
-        minEdge,
-        map: (xi, o) => {
-          multilinear(macro.cell, xi, n);
-          for (let k = 0; k < dim; k++) {
-            let x = 0;
-            for (let v = 0; v < nc; v++) x += n[v] * V[ids[v] * dim + k];
-            o[k] = x;
-          }
-        }
-      });
+      for (const [a, b] of edges) minEdge = Math.min(minEdge, vertexDistance(V, dim, ids[a], ids[b]));
+      out.push({ macro: c, corners: ids, pts: null, minEdge });
     } else if (cell === 'triangle' && macro.cell === 'quadrilateral') {
       // diagonal through the vertex of smallest id: neighbours agree on shared edges, and the split is deterministic
       let p = 0;
@@ -401,34 +539,37 @@ function hexToTets(
 
 /** Local node indices of the reference nodes lying on each facet of the cell. */
 export function facetNodes(referenceNodes: Float64Array, cell: CellName): number[][] {
-  const ref = referenceCell(cell);
+  const ref = sharedCell(cell);
   const dim = ref.dim;
   const nn = referenceNodes.length / dim;
   return ref.facets.map((f) => {
     const on: number[] = [];
-    for (let i = 0; i < nn; i++) {
-      const p = referenceNodes.subarray(i * dim, i * dim + dim);
-      if (onFacet(ref.vertices, dim, f, p)) on.push(i);
-    }
+    for (let i = 0; i < nn; i++) if (onFacet(ref.vertices, dim, f, referenceNodes, i * dim)) on.push(i);
     return on;
   });
 }
 
-function onFacet(verts: Float64Array, dim: number, f: number[], p: ArrayLike<number>): boolean {
+function onFacet(verts: Float64Array, dim: number, f: number[], P: ArrayLike<number>, o: number): boolean {
   const v = (i: number, k: number) => verts[f[i] * dim + k];
   const tol = CONTAINMENT_TOLERANCE;
-  if (dim === 1) return Math.abs(p[0] - v(0, 0)) <= tol;
+  if (dim === 1) return Math.abs(P[o] - v(0, 0)) <= tol;
   if (dim === 2) {
     // distance to the line through the facet's two vertices
     const tx = v(1, 0) - v(0, 0);
     const ty = v(1, 1) - v(0, 1);
-    return Math.abs((p[0] - v(0, 0)) * ty - (p[1] - v(0, 1)) * tx) / Math.hypot(tx, ty) <= tol;
+    return Math.abs((P[o] - v(0, 0)) * ty - (P[o + 1] - v(0, 1)) * tx) / Math.hypot(tx, ty) <= tol;
   }
-  const a = [v(1, 0) - v(0, 0), v(1, 1) - v(0, 1), v(1, 2) - v(0, 2)];
-  const b = [v(2, 0) - v(0, 0), v(2, 1) - v(0, 1), v(2, 2) - v(0, 2)];
-  const n = [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]];
-  const d = (p[0] - v(0, 0)) * n[0] + (p[1] - v(0, 1)) * n[1] + (p[2] - v(0, 2)) * n[2];
-  return Math.abs(d) / Math.hypot(n[0], n[1], n[2]) <= tol;
+  const a0 = v(1, 0) - v(0, 0);
+  const a1 = v(1, 1) - v(0, 1);
+  const a2 = v(1, 2) - v(0, 2);
+  const b0 = v(2, 0) - v(0, 0);
+  const b1 = v(2, 1) - v(0, 1);
+  const b2 = v(2, 2) - v(0, 2);
+  const n0 = a1 * b2 - a2 * b1;
+  const n1 = a2 * b0 - a0 * b2;
+  const n2 = a0 * b1 - a1 * b0;
+  const d = (P[o] - v(0, 0)) * n0 + (P[o + 1] - v(0, 1)) * n1 + (P[o + 2] - v(0, 2)) * n2;
+  return Math.abs(d) / Math.hypot(n0, n1, n2) <= tol;
 }
 
 /**
@@ -437,7 +578,7 @@ function onFacet(verts: Float64Array, dim: number, f: number[], p: ArrayLike<num
  * layout is conforming.
  */
 export function macroPatchMesh(referenceNodes: Float64Array, cell: CellName, macro: MacroPatch): Mesh {
-  const ref = referenceCell(cell);
+  const ref = sharedCell(cell);
   const dim = ref.dim;
   checkPatch(macro);
   requireInput(
@@ -462,52 +603,94 @@ export function macroPatchMesh(referenceNodes: Float64Array, cell: CellName, mac
   }
   const subs = subCells(cell, macro);
   const minEdge = subs.reduce((m, s) => Math.min(m, s.minEdge), Infinity);
-  const merger = new NodeMerger(dim, MERGE_RELATIVE_TOLERANCE * minEdge);
+  const merger = new NodeMerger(dim, MERGE_RELATIVE_TOLERANCE * minEdge, subs.length * nn);
   const elements = new Int32Array(subs.length * nn);
   const macroCell = new Int32Array(subs.length);
+  // the macro cell's multilinear shape functions at every reference node, once
+  const nc = CORNERS[macro.cell];
+  const shapes = new Float64Array(nn * nc);
+  if (cell === macro.cell)
+    for (let i = 0; i < nn; i++)
+      multilinear(
+        macro.cell,
+        referenceNodes.subarray(i * dim, i * dim + dim),
+        shapes.subarray(i * nc, i * nc + nc)
+      );
+  const V = macro.vertices;
+  const X = referenceNodes;
   const x = new Float64Array(dim);
-  subs.forEach((s, e) => {
+  for (let e = 0; e < subs.length; e++) {
+    const s = subs[e];
     macroCell[e] = s.macro;
+    const ids = s.corners;
+    const P = s.pts;
     for (let i = 0; i < nn; i++) {
-      s.map(referenceNodes.subarray(i * dim, i * dim + dim), x);
+      if (P === null) {
+        // x = Σ_v N_v(ξ_i) X_v
+        for (let k = 0; k < dim; k++) {
+          let v = 0;
+          for (let c = 0; c < nc; c++) v += shapes[i * nc + c] * V[ids[c] * dim + k];
+          x[k] = v;
+        }
+      } else {
+        // x = P_0 + Σ_v ξ_v (P_v − P_0)
+        for (let k = 0; k < dim; k++) {
+          let v = P[k];
+          for (let c = 1; c <= dim; c++) v += X[i * dim + c - 1] * (P[c * dim + k] - P[k]);
+          x[k] = v;
+        }
+      }
       elements[e * nn + i] = merger.add(x);
     }
-  });
+  }
   // boundary: facets whose corner vertices appear on one element only
-  const seen = new Map<string, number>();
-  const keys: string[] = [];
-  subs.forEach((s) => {
-    for (const f of ref.facets) {
-      const key = f
-        .map((v) => s.corners[v])
-        .sort((a, b) => a - b)
-        .join(',');
-      keys.push(key);
-      seen.set(key, (seen.get(key) ?? 0) + 1);
-    }
-  });
   const nf = ref.facets.length;
+  const width = ref.facets[0].length;
+  const table = new FacetTable(width, subs.length * nf);
+  const entry = new Int32Array(subs.length * nf);
+  const key = new Int32Array(width);
+  for (let e = 0; e < subs.length; e++) {
+    const corners = subs[e].corners;
+    for (let f = 0; f < nf; f++) {
+      const fv = ref.facets[f];
+      for (let t = 0; t < width; t++) {
+        // insertion into the sorted key
+        const id = corners[fv[t]];
+        let r = t;
+        while (r > 0 && key[r - 1] > id) {
+          key[r] = key[r - 1];
+          r--;
+        }
+        key[r] = id;
+      }
+      entry[e * nf + f] = table.add(key);
+    }
+  }
   const onFacets = facetNodes(referenceNodes, cell);
   const facets: number[] = [];
-  const bnodes = new Set<number>();
-  keys.forEach((key, t) => {
-    if (seen.get(key) !== 1) return;
+  const onBoundary = new Uint8Array(merger.count);
+  for (let t = 0; t < entry.length; t++) {
+    if (table.uses[entry[t]] !== 1) continue;
     const e = Math.floor(t / nf);
     const f = t % nf;
     facets.push(e, f);
-    for (const i of onFacets[f]) bnodes.add(elements[e * nn + i]);
-  });
+    for (const i of onFacets[f]) onBoundary[elements[e * nn + i]] = 1;
+  }
+  let nb = 0;
+  for (let i = 0; i < merger.count; i++) nb += onBoundary[i];
+  const bnodes = new Int32Array(nb);
+  for (let i = 0, w = 0; i < merger.count; i++) if (onBoundary[i]) bnodes[w++] = i;
   return {
     dim,
     cell,
     nodeCount: merger.count,
-    coords: Float64Array.from(merger.coords),
+    coords: merger.points(),
     elementNodes: nn,
     elementCount: subs.length,
     elements,
     macroCell,
     boundary: {
-      nodes: Int32Array.from([...bnodes].sort((a, b) => a - b)),
+      nodes: bnodes,
       facets: Int32Array.from(facets),
       facetCount: facets.length / 2
     }
@@ -526,48 +709,47 @@ export function refinePatch(macro: MacroPatch, divisions: number): MacroPatch {
   const nc = CORNERS[macro.cell];
   let minEdge = Infinity;
   for (let c = 0; c < macro.cellCount; c++)
-    for (const [a, b] of MACRO_REF[macro.cell].edges) {
-      const ia = macro.cells[c * nc + a];
-      const ib = macro.cells[c * nc + b];
+    for (const [a, b] of MACRO_REF[macro.cell].edges)
       minEdge = Math.min(
         minEdge,
-        distance(
-          macro.vertices.subarray(ia * dim, ia * dim + dim),
-          macro.vertices.subarray(ib * dim, ib * dim + dim)
-        )
+        vertexDistance(macro.vertices, dim, macro.cells[c * nc + a], macro.cells[c * nc + b])
       );
-    }
-  const merger = new NodeMerger(dim, (MERGE_RELATIVE_TOLERANCE * minEdge) / n);
-  const cells: number[] = [];
-  const shape = new Float64Array(nc);
-  const xi = new Float64Array(dim);
-  const x = new Float64Array(dim);
   const side = n + 1;
   const gridCount = side ** dim;
+  const merger = new NodeMerger(dim, (MERGE_RELATIVE_TOLERANCE * minEdge) / n, macro.cellCount * gridCount);
+  const local = gridCells(dim, n);
+  const cells = new Int32Array(macro.cellCount * local.length);
+  // the multilinear shape functions at the grid points of the reference cell, once
+  const shapes = new Float64Array(gridCount * nc);
+  const xi = new Float64Array(dim);
+  for (let g = 0; g < gridCount; g++) {
+    let rest = g;
+    for (let k = 0; k < dim; k++) {
+      xi[k] = -1 + (2 * (rest % side)) / n;
+      rest = Math.floor(rest / side);
+    }
+    multilinear(macro.cell, xi, shapes.subarray(g * nc, g * nc + nc));
+  }
+  const x = new Float64Array(dim);
+  const ids = new Int32Array(gridCount);
   for (let c = 0; c < macro.cellCount; c++) {
-    const ids = new Int32Array(gridCount);
     for (let g = 0; g < gridCount; g++) {
-      let rest = g;
-      for (let k = 0; k < dim; k++) {
-        xi[k] = -1 + (2 * (rest % side)) / n;
-        rest = Math.floor(rest / side);
-      }
-      multilinear(macro.cell, xi, shape);
       for (let k = 0; k < dim; k++) {
         let s = 0;
-        for (let v = 0; v < nc; v++) s += shape[v] * macro.vertices[macro.cells[c * nc + v] * dim + k];
+        for (let v = 0; v < nc; v++)
+          s += shapes[g * nc + v] * macro.vertices[macro.cells[c * nc + v] * dim + k];
         x[k] = s;
       }
       ids[g] = merger.add(x);
     }
-    cells.push(...gridCells(dim, n).map((v) => ids[v]));
+    for (let t = 0; t < local.length; t++) cells[c * local.length + t] = ids[local[t]];
   }
   return {
     ...macro,
     name: `${macro.name}-${n}`,
-    vertices: Float64Array.from(merger.coords),
+    vertices: merger.points(),
     vertexCount: merger.count,
-    cells: Int32Array.from(cells),
+    cells,
     cellCount: cells.length / nc,
     source: n === 1 ? macro.source : `${macro.source}; each cell divided ${Array(dim).fill(n).join(' × ')}`
   };
@@ -648,7 +830,7 @@ export function structuredMesh(
   divisions: number,
   opts: StructuredOptions & { referenceNodes?: Float64Array } = {}
 ): Mesh {
-  const ref = referenceCell(cell);
+  const ref = sharedCell(cell);
   return macroPatchMesh(opts.referenceNodes ?? ref.vertices, cell, structuredPatch(ref.dim, divisions, opts));
 }
 

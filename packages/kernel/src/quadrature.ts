@@ -1,4 +1,4 @@
-import { type CellName, CELL_NAMES, facetNormal, referenceCell } from './cells';
+import { type CellName, CELL_NAMES, facetNormal, sharedCell } from './cells';
 import { KernelError, requireInput } from './errors';
 
 /** A quadrature rule on a reference cell: ∫ f dξ ≈ Σ_q w_q f(ξ_q). */
@@ -431,7 +431,7 @@ export function ruleOfDegree(cell: CellName, degree: number): QuadratureRule {
 
 /** A rule from explicit points, each [coords..., weight]; the degree of exactness is found by testing monomials. */
 export function explicitRule(cell: CellName, points: number[][]): QuadratureRule {
-  const ref = referenceCell(cell);
+  const ref = sharedCell(cell);
   const dim = ref.dim;
   requireInput(Array.isArray(points) && points.length > 0, 'an explicit rule needs at least one point');
   const count = points.length;
@@ -515,7 +515,7 @@ export function exponentsOfDegree(dim: number, d: number): number[][] {
 
 /** The largest d ≤ MAX_TESTED_DEGREE such that the rule integrates every monomial of total degree ≤ d exactly (−1 if not even constants). */
 export function degreeOfExactness(cell: CellName, points: Float64Array, weights: Float64Array): number {
-  const dim = referenceCell(cell).dim;
+  const dim = sharedCell(cell).dim;
   const count = weights.length;
   for (let d = 0; d <= MAX_TESTED_DEGREE; d++) {
     for (const e of exponentsOfDegree(dim, d)) {
@@ -551,7 +551,7 @@ export interface FacetQuadrature {
 
 /** A rule on one facet of a cell, exact to `degree` along the facet: the facet's own rule mapped affinely onto it. */
 export function facetQuadrature(cell: CellName, facet: number, degree: number): FacetQuadrature {
-  const ref = referenceCell(cell);
+  const ref = sharedCell(cell);
   const dim = ref.dim;
   const verts = ref.facets[facet];
   if (!Number.isInteger(facet) || !verts) {
@@ -581,7 +581,7 @@ export function facetQuadrature(cell: CellName, facet: number, degree: number): 
   const weights = new Float64Array(base.count);
   // affine map s ↦ ξ from the facet's reference cell; its Jacobian is constant (every reference facet is flat, and
   // hexahedron faces are squares, whose bilinear map is affine)
-  const fref = referenceCell(facetCell);
+  const fref = sharedCell(facetCell);
   const shape = (s: Float64Array, q: number, out: Float64Array) => {
     if (facetCell === 'interval') {
       const t = s[q];

@@ -2,10 +2,12 @@ import { describe, expect, it } from 'vitest';
 import {
   CELL_NAMES,
   facetNormal,
+  facetQuadrature,
   gaussRule,
   monomialIntegral,
   referenceCell,
-  simplexRule
+  simplexRule,
+  structuredMesh
 } from '../../../packages/kernel/src/index';
 
 describe('reference cells', () => {
@@ -16,6 +18,21 @@ describe('reference cells', () => {
       expect(c.measure).toBe(expected[name]);
       expect(monomialIntegral(name, [0, 0, 0])).toBeCloseTo(expected[name], 15);
     }
+  });
+
+  it('are handed out fresh: a caller changing one changes neither later cells nor the meshes and rules built on them', () => {
+    const mine = referenceCell('quadrilateral');
+    mine.vertices.fill(7);
+    mine.facets[0][0] = 3;
+    mine.edges.length = 0;
+    const again = referenceCell('quadrilateral');
+    expect(Array.from(again.vertices)).toEqual([-1, -1, 1, -1, 1, 1, -1, 1]);
+    expect(again.facets[0]).toEqual([0, 1]);
+    expect(again.edges.length).toBe(4);
+    expect(structuredMesh('quadrilateral', 2).nodeCount).toBe(9);
+    // the bottom edge of the square, ξ₂ = −1
+    const fq = facetQuadrature('quadrilateral', 0, 1);
+    for (let q = 0; q < fq.count; q++) expect(fq.points[2 * q + 1]).toBe(-1);
   });
 
   it('list vertices, edges and faces with the counts of each cell (Euler: V − E + F = 2 for the solids)', () => {

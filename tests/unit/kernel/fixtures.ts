@@ -163,6 +163,75 @@ export const HEX8: FixtureElement = {
   }
 };
 
+/** Ten-node tetrahedron: corners L_i(2L_i − 1), mid-edge nodes 4 L_a L_b (barycentric L_0 = 1 − ξ − η − ζ). */
+export const T10: FixtureElement = {
+  name: 'ten-node tetrahedron',
+  cell: 'tetrahedron',
+  dim: 3,
+  nodes: flat([
+    [0, 0, 0],
+    [1, 0, 0],
+    [0, 1, 0],
+    [0, 0, 1],
+    [0.5, 0, 0],
+    [0.5, 0.5, 0],
+    [0, 0.5, 0],
+    [0, 0, 0.5],
+    [0.5, 0, 0.5],
+    [0, 0.5, 0.5]
+  ]),
+  shape(xi, N, dN) {
+    const L = [1 - xi[0] - xi[1] - xi[2], xi[0], xi[1], xi[2]];
+    const dL = [
+      [-1, -1, -1],
+      [1, 0, 0],
+      [0, 1, 0],
+      [0, 0, 1]
+    ];
+    for (let i = 0; i < 4; i++) {
+      N[i] = L[i] * (2 * L[i] - 1);
+      for (let k = 0; k < 3; k++) dN[3 * i + k] = (4 * L[i] - 1) * dL[i][k];
+    }
+    T10_EDGES.forEach(([a, b], e) => {
+      N[4 + e] = 4 * L[a] * L[b];
+      for (let k = 0; k < 3; k++) dN[3 * (4 + e) + k] = 4 * (L[b] * dL[a][k] + L[a] * dL[b][k]);
+    });
+  }
+};
+const T10_EDGES = [
+  [0, 1],
+  [1, 2],
+  [2, 0],
+  [0, 3],
+  [1, 3],
+  [2, 3]
+];
+
+/** 27-node hexahedron: tensor products of the quadratic Lagrange polynomials on −1, 0, 1 (nodes lexicographic, ξ fastest). */
+export const HEX27: FixtureElement = {
+  name: 'twenty-seven-node hexahedron',
+  cell: 'hexahedron',
+  dim: 3,
+  nodes: (() => {
+    const pts: number[][] = [];
+    for (let c = -1; c <= 1; c++)
+      for (let b = -1; b <= 1; b++) for (let a = -1; a <= 1; a++) pts.push([a, b, c]);
+    return flat(pts);
+  })(),
+  shape(xi, N, dN) {
+    const l = (t: number, s: number) => (s < 0 ? (t * (t - 1)) / 2 : s > 0 ? (t * (t + 1)) / 2 : 1 - t * t);
+    const dl = (t: number, s: number) => (s < 0 ? t - 0.5 : s > 0 ? t + 0.5 : -2 * t);
+    for (let i = 0; i < 27; i++) {
+      const [a, b, c] = [this.nodes[3 * i], this.nodes[3 * i + 1], this.nodes[3 * i + 2]];
+      const [la, lb, lc] = [l(xi[0], a), l(xi[1], b), l(xi[2], c)];
+      N[i] = la * lb * lc;
+      dN[3 * i] = dl(xi[0], a) * lb * lc;
+      dN[3 * i + 1] = la * dl(xi[1], b) * lc;
+      dN[3 * i + 2] = la * lb * dl(xi[2], c);
+    }
+  }
+};
+
 /** Node layouts only (for mesh conformity): nine-node quadrilateral and twenty-node hexahedron. */
 export const Q9_NODES = flat([
   [-1, -1],

@@ -219,6 +219,41 @@ describe('macro-patch meshes', () => {
     );
   });
 
+  it('merge coincident nodes within a tolerance relative to the mesh size, at any scale of the coordinates', () => {
+    // two unit squares side by side whose shared edge is given twice, the second copy moved by δ along x
+    const pair = (delta: number, scale: number) =>
+      definePatch(
+        'split pair',
+        'quadrilateral',
+        [
+          [0, 0],
+          [1, 0],
+          [1, 1],
+          [0, 1],
+          [1 + delta, 0],
+          [2, 0],
+          [2, 1],
+          [1 + delta, 1]
+        ].map((v) => v.map((c) => c * scale)),
+        [
+          [0, 1, 2, 3],
+          [4, 5, 6, 7]
+        ],
+        'test data'
+      );
+    // MERGE_RELATIVE_TOLERANCE is 1e-8 of the shortest edge (1 here): δ = 1e-10 merges, δ = 1e-6 does not
+    for (const scale of [1, 1e-6, 1e6]) {
+      const merged = macroPatchMesh(Q9_NODES, 'quadrilateral', pair(1e-10, scale));
+      const apart = macroPatchMesh(Q9_NODES, 'quadrilateral', pair(1e-6, scale));
+      expect(merged.nodeCount, `scale ${scale}`).toBe(15); // a 5 × 3 grid of nodes
+      expect(apart.nodeCount, `scale ${scale}`).toBe(18);
+      // first-seen numbering, independent of the scale
+      expect(Array.from(merged.elements)).toEqual(
+        Array.from(macroPatchMesh(Q9_NODES, 'quadrilateral', pair(1e-10, 1)).elements)
+      );
+    }
+  });
+
   it('find the nodes on each reference facet for any layout', () => {
     expect(facetNodes(Q9_NODES, 'quadrilateral')).toEqual([
       [0, 1, 4],
