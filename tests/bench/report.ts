@@ -20,7 +20,9 @@ const fmt = (v: number): string =>
 
 export function formatRows(rows: BenchRow[]): string {
   const lines = rows.map((r) => {
-    const ratio = r.baseline ? `${fmt(r.value / r.baseline.value)}× ${r.baseline.name} (${fmt(r.baseline.value)} ${r.unit})` : '';
+    const ratio = r.baseline
+      ? `${fmt(r.value / r.baseline.value)}× ${r.baseline.name} (${fmt(r.baseline.value)} ${r.unit})`
+      : '';
     return `  ${r.name.padEnd(52)} ${fmt(r.value).padStart(11)} ${r.unit.padEnd(10)} ${ratio}${r.target ? `   target ${r.target}` : ''}`;
   });
   return lines.join('\n');

@@ -24,4 +24,6 @@ for (const file of files) {
   console.log(formatRows(rows));
 }
 const mem = process.memoryUsage();
-console.log(`\npeak resident set size of the bench process: ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB (heap now ${(mem.heapUsed / 2 ** 20).toFixed(0)} MiB)`);
+console.log(
+  `\npeak resident set size of the bench process: ${(process.resourceUsage().maxRSS / 1024).toFixed(0)} MiB (heap now ${(mem.heapUsed / 2 ** 20).toFixed(0)} MiB)`
+);

@@ -32,11 +32,14 @@ export function normaliseEmail(email: string): string {
 }
 
 export async function rolesOf(userId: string, t?: Transaction): Promise<Role[]> {
-  const rows = await getSequelize().query<{ role: string }>('SELECT role FROM user_roles WHERE user_id = ? ORDER BY role', {
-    type: QueryTypes.SELECT,
-    replacements: [userId],
-    transaction: t
-  });
+  const rows = await getSequelize().query<{ role: string }>(
+    'SELECT role FROM user_roles WHERE user_id = ? ORDER BY role',
+    {
+      type: QueryTypes.SELECT,
+      replacements: [userId],
+      transaction: t
+    }
+  );
   return rows.map((r) => r.role).filter(isRole);
 }
 
@@ -48,7 +51,9 @@ export async function countUsers(t?: Transaction): Promise<number> {
   return Number(row.n);
 }
 
-export async function findUserByEmail(email: string): Promise<(UserRecord & { passwordHash: string }) | null> {
+export async function findUserByEmail(
+  email: string
+): Promise<(UserRecord & { passwordHash: string }) | null> {
   const [row] = await getSequelize().query<{
     id: string;
     email: string;
@@ -56,7 +61,10 @@ export async function findUserByEmail(email: string): Promise<(UserRecord & { pa
     password_hash: string;
     created_at: Date;
     disabled_at: Date | null;
-  }>('SELECT * FROM users WHERE email = ?', { type: QueryTypes.SELECT, replacements: [normaliseEmail(email)] });
+  }>('SELECT * FROM users WHERE email = ?', {
+    type: QueryTypes.SELECT,
+    replacements: [normaliseEmail(email)]
+  });
   if (!row) return null;
   return {
     id: row.id,
@@ -80,13 +88,23 @@ export interface NewUser {
  * Creates a person. On an empty database outside demo mode the first account becomes admin.
  * `actor` is who did it (null for self sign-up).
  */
-export async function createUser(input: NewUser, actor: AuditActor | null, opts: { firstBecomesAdmin?: boolean } = {}): Promise<UserRecord> {
+export async function createUser(
+  input: NewUser,
+  actor: AuditActor | null,
+  opts: { firstBecomesAdmin?: boolean } = {}
+): Promise<UserRecord> {
   const email = normaliseEmail(input.email);
   const name = input.name.trim();
-  if (!EMAIL.test(email)) throw new AccountError('invalid', `'${input.email}' is not an e-mail address`, 'email');
-  if (name.length < 1 || name.length > 120) throw new AccountError('invalid', 'name must be 1 to 120 characters', 'name');
+  if (!EMAIL.test(email))
+    throw new AccountError('invalid', `'${input.email}' is not an e-mail address`, 'email');
+  if (name.length < 1 || name.length > 120)
+    throw new AccountError('invalid', 'name must be 1 to 120 characters', 'name');
   if (input.password.length < MIN_PASSWORD_LENGTH) {
-    throw new AccountError('invalid', `password must be at least ${MIN_PASSWORD_LENGTH} characters`, 'password');
+    throw new AccountError(
+      'invalid',
+      `password must be at least ${MIN_PASSWORD_LENGTH} characters`,
+      'password'
+    );
   }
   const passwordHash = await hashPassword(input.password);
   return inTransaction(async (t) => {
@@ -100,10 +118,13 @@ export async function createUser(input: NewUser, actor: AuditActor | null, opts:
     if (opts.firstBecomesAdmin && (await countUsers(t)) === 0) roles.add('admin');
     const id = ulid();
     const now = new Date();
-    await getSequelize().query('INSERT INTO users (id, email, name, password_hash, created_at) VALUES (?, ?, ?, ?, ?)', {
-      replacements: [id, email, name, passwordHash, now],
-      transaction: t
-    });
+    await getSequelize().query(
+      'INSERT INTO users (id, email, name, password_hash, created_at) VALUES (?, ?, ?, ?, ?)',
+      {
+        replacements: [id, email, name, passwordHash, now],
+        transaction: t
+      }
+    );
     for (const role of roles) {
       await getSequelize().query('INSERT INTO user_roles (user_id, role, granted_at) VALUES (?, ?, ?)', {
         replacements: [id, role, now],
@@ -123,20 +144,31 @@ export async function createUser(input: NewUser, actor: AuditActor | null, opts:
 }
 
 /** Grants or removes one role, with its audit event. */
-export async function setRole(userId: string, role: Role, granted: boolean, actor: AuditActor): Promise<Role[]> {
+export async function setRole(
+  userId: string,
+  role: Role,
+  granted: boolean,
+  actor: AuditActor
+): Promise<Role[]> {
   return inTransaction(async (t) => {
-    const [user] = await getSequelize().query<{ email: string }>('SELECT email FROM users WHERE id = ? FOR UPDATE', {
-      type: QueryTypes.SELECT,
-      replacements: [userId],
-      transaction: t
-    });
+    const [user] = await getSequelize().query<{ email: string }>(
+      'SELECT email FROM users WHERE id = ? FOR UPDATE',
+      {
+        type: QueryTypes.SELECT,
+        replacements: [userId],
+        transaction: t
+      }
+    );
     if (!user) throw new AccountError('not-found', `no account with id ${userId}`);
     const before = await rolesOf(userId, t);
     if (granted) {
-      await getSequelize().query('INSERT IGNORE INTO user_roles (user_id, role, granted_at) VALUES (?, ?, ?)', {
-        replacements: [userId, role, new Date()],
-        transaction: t
-      });
+      await getSequelize().query(
+        'INSERT IGNORE INTO user_roles (user_id, role, granted_at) VALUES (?, ?, ?)',
+        {
+          replacements: [userId, role, new Date()],
+          transaction: t
+        }
+      );
     } else {
       await getSequelize().query('DELETE FROM user_roles WHERE user_id = ? AND role = ?', {
         replacements: [userId, role],

@@ -39,6 +39,7 @@ export async function executeQueuedRuns(sandbox: SandboxPool, log: Log): Promise
     try {
       const record = await verifyDefinition(parsed.definition, run.definitionHash, {
         sandbox,
+        version: run.version,
         onProgress: (p) => void heartbeat(run.id, WORKER_ID, p.progress, p.stage).catch(() => undefined)
       });
       await complete(run.id, WORKER_ID, record);

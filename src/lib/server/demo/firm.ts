@@ -3,7 +3,8 @@ import type { Role } from '../auth/roles';
 
 export const DEMO_FIRM = {
   name: 'Fenwold Lattice Engineering',
-  summary: 'A fictional structural methods group that writes and verifies its own elements for bridge and roof work.'
+  summary:
+    'A fictional structural methods group that writes and verifies its own elements for bridge and roof work.'
 };
 
 export interface DemoPerson {

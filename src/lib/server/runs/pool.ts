@@ -205,7 +205,7 @@ export async function startRunWorkers(opts: RunWorkersOptions): Promise<RunWorke
 
     let outcome: VerifyOutcome | null = null;
     try {
-      const task: VerifyTask = { runId: run.id, source: run.source, port: port2 };
+      const task: VerifyTask = { runId: run.id, source: run.source, version: run.version, port: port2 };
       outcome = (await piscina.run(task, {
         transferList: [port2],
         signal: controller.signal

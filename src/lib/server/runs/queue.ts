@@ -40,6 +40,8 @@ export interface ClaimedRun {
   source: string;
   definitionHash: string;
   versionId: string | null;
+  /** the registry version string, written into the record */
+  version: string | null;
   /** 1 for the first claim; grows each time a silent worker's run is claimed again */
   attempt: number;
   maxAttempts: number;
@@ -355,11 +357,23 @@ export async function claimNext(workerId: string): Promise<ClaimedRun | null> {
            started_at = COALESCE(started_at, NOW(3)), progress = 0, stage = NULL WHERE id = ?`,
         { transaction: t, replacements: [workerId, row.id] }
       );
+      // the record names the registry version that asked for it first (null for a run of a bare document)
+      const [named] = row.version_id
+        ? await sequelize.query<{ version: string }>(
+            'SELECT version FROM formulation_versions WHERE id = ?',
+            {
+              type: QueryTypes.SELECT,
+              transaction: t,
+              replacements: [row.version_id]
+            }
+          )
+        : [];
       return {
         id: row.id,
         source: row.source,
         definitionHash: row.definition_hash,
         versionId: row.version_id,
+        version: named?.version ?? null,
         attempt: Number(row.attempts) + 1,
         maxAttempts: Number(row.max_attempts)
       };

@@ -8,6 +8,8 @@ import { ENGINE_VERSION, verifySource, type Progress, type VerificationRecord } 
 export interface VerifyTask {
   runId: string;
   source: string;
+  /** the registry version that asked for the record, or null */
+  version?: string | null;
   /** receives { stage, progress } messages while the checks run */
   port: MessagePort;
 }
@@ -41,7 +43,11 @@ export default async function verifyTask(task: VerifyTask): Promise<VerifyOutcom
   sandbox ??= new SandboxPool({ poolSize: 1 });
   const post = (p: Progress) => task.port.postMessage({ stage: p.stage, progress: p.progress });
   try {
-    const record = await verifySource(task.source, { sandbox, onProgress: post });
+    const record = await verifySource(task.source, {
+      sandbox,
+      version: task.version ?? null,
+      onProgress: post
+    });
     return { ok: true, record };
   } catch (e) {
     return { ok: false, error: `verification of run ${task.runId} stopped: ${describe(e)}` };

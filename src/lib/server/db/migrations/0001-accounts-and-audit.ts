@@ -78,7 +78,15 @@ export async function up(q: QueryInterface): Promise<void> {
 }
 
 export async function down(q: QueryInterface): Promise<void> {
-  for (const t of ['audit_head', 'audit_events', 'rate_limits', 'api_tokens', 'sessions', 'user_roles', 'users']) {
+  for (const t of [
+    'audit_head',
+    'audit_events',
+    'rate_limits',
+    'api_tokens',
+    'sessions',
+    'user_roles',
+    'users'
+  ]) {
     await q.sequelize.query(`DROP TABLE IF EXISTS ${t}`);
   }
 }
