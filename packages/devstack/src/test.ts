@@ -4,7 +4,7 @@
 // Arguments go to vitest (`npm test -- tests/unit/kernel`); when every path given is under
 // tests/unit, no services are started.
 import { spawn } from 'node:child_process';
-import { mkdtempSync, rmSync, mkdirSync } from 'node:fs';
+import { mkdtempSync, rmSync, mkdirSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { randomBytes } from 'node:crypto';
@@ -23,6 +23,24 @@ const paths = args.filter((a) => !a.startsWith('-'));
 const unitOnly = paths.length > 0 && paths.every((p) => p.startsWith('tests/unit'));
 
 const stops: (() => Promise<void>)[] = [];
+const SUMMARY = join(ROOT, 'test-artifacts', 'vitest-results.json');
+
+/** One plain closing line, `Tests: N passed, N failed, N skipped`, read from vitest's JSON report. */
+function printSummary(): void {
+  try {
+    const r = JSON.parse(readFileSync(SUMMARY, 'utf8')) as {
+      numPassedTests: number;
+      numFailedTests: number;
+      numPendingTests: number;
+      numTodoTests: number;
+    };
+    console.log(
+      `\nTests: ${r.numPassedTests} passed, ${r.numFailedTests} failed, ${r.numPendingTests + r.numTodoTests} skipped`
+    );
+  } catch {
+    console.log('\nTests: no results were written');
+  }
+}
 const tmp = mkdtempSync(join(tmpdir(), 'isoledger-test-'));
 
 async function cleanup(): Promise<void> {
@@ -34,7 +52,15 @@ function runVitest(env: Record<string, string>): Promise<number> {
   return new Promise((res) => {
     const child = spawn(
       process.execPath,
-      [...nodeFlags(), join(ROOT, 'node_modules', 'vitest', 'vitest.mjs'), 'run', ...args],
+      [
+        ...nodeFlags(),
+        join(ROOT, 'node_modules', 'vitest', 'vitest.mjs'),
+        'run',
+        '--reporter=default',
+        '--reporter=json',
+        `--outputFile.json=${SUMMARY}`,
+        ...args
+      ],
       {
         cwd: ROOT,
         stdio: 'inherit',
@@ -98,7 +124,9 @@ try {
     env.ISOLEDGER_TEST_URL = server.url;
     console.log(`[isoledger] test stack ready: server ${server.url}, database on 127.0.0.1:${db.port}`);
   }
+  rmSync(SUMMARY, { force: true });
   code = await runVitest(env);
+  printSummary();
 } catch (e) {
   console.error(`[isoledger] ${(e as Error).stack ?? e}`);
   code = 1;
