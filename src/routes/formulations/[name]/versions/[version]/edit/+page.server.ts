@@ -1,5 +1,6 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { loadApi, type ApiErrorBody } from '$lib/server/api';
+import { loadApi } from '$lib/server/api';
+import { callApi as send, type Answer } from '$lib/components/registry/api-call';
 import { requireUserOrSignIn } from '$lib/server/auth/guards';
 import type { Diagnostic } from '@isoledger/formulation';
 import type { ValidationResult } from '$lib/server/preview';
@@ -9,42 +10,6 @@ import type { Actions, PageServerLoad, RequestEvent } from './$types';
 
 function versionPath(params: { name: string; version: string }): string {
   return `/api/v1/formulations/${encodeURIComponent(params.name)}/versions/${encodeURIComponent(params.version)}`;
-}
-
-interface Answer<T> {
-  ok: boolean;
-  status: number;
-  data: T | null;
-  error: ApiErrorBody['error'] | null;
-}
-
-async function send<T>(
-  fetch: RequestEvent['fetch'],
-  method: string,
-  path: string,
-  body?: unknown
-): Promise<Answer<T>> {
-  const r = await fetch(path, {
-    method,
-    headers: {
-      accept: 'application/json',
-      ...(body === undefined ? {} : { 'content-type': 'application/json' })
-    },
-    body: body === undefined ? undefined : JSON.stringify(body)
-  });
-  let parsed: unknown = null;
-  try {
-    parsed = await r.json();
-  } catch {
-    // an empty or non-JSON answer: the status tells
-  }
-  if (r.ok) return { ok: true, status: r.status, data: parsed as T, error: null };
-  const error = (parsed as Partial<ApiErrorBody> | null)?.error ?? {
-    code: 'error',
-    message: `${method} ${path} answered ${r.status}`,
-    details: null
-  };
-  return { ok: false, status: r.status, data: null, error };
 }
 
 export const load: PageServerLoad = async ({ locals, url, params, fetch }) => {
