@@ -1,5 +1,7 @@
 // Every request: a request id, the person behind the session cookie or the bearer token, security
-// headers, and the API's error shape for unknown /api/ paths. SvelteKit's origin check stays on.
+// headers, and the API's error shape for unknown /api/ paths. API traffic also meets the rate
+// limits, the cache of immutable representations and weak ETags on lists (api/traffic.ts).
+// SvelteKit's origin check stays on.
 import type { Handle, HandleServerError } from '@sveltejs/kit';
 import { ulid } from 'ulid';
 import { apiErrorResponse } from '$lib/server/api';
@@ -9,7 +11,7 @@ import {
   SESSION_COOKIE,
   validateSessionToken
 } from '$lib/server/auth/sessions';
-import { authenticateToken } from '$lib/server/auth/tokens';
+import { authenticateTokenBatched } from '$lib/server/api/token-batch';
 import {
   afterRoute,
   answerFromCache,
@@ -73,7 +75,7 @@ export const handle: Handle = async ({ event, resolve }) => {
         requestId
       );
     }
-    const check = await authenticateToken(m[1]);
+    const check = await authenticateTokenBatched(m[1]);
     if (!check.ok) {
       return securityHeaders(
         apiErrorResponse(

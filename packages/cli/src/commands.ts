@@ -22,5 +22,13 @@ export const COMMANDS: Readonly<Record<string, CommandEntry>> = Object.freeze({
   verify: {
     summary: 'run every verification check and print the record',
     load: async () => (await import('./commands/verify')).verifyCommand
+  },
+  pull: {
+    summary: 'fetch a released version and its record, checking its hashes',
+    load: async () => (await import('./commands/pull')).pullCommand
+  },
+  manifest: {
+    summary: "print a project's manifest, or --verify every pin's hashes and record",
+    load: async () => (await import('./commands/manifest')).manifestCommand
   }
 });

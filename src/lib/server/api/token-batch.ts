@@ -1,0 +1,23 @@
+// Bearer tokens checked once per batch: requests with the same token that arrive in one turn of the
+// event loop share one database lookup, sent after the last of them arrived. Every request of a
+// batch arrived before its lookup started, so a revocation or expiry committed before any of them
+// arrived is seen by all of them: revocation still takes effect on the next request.
+import { authenticateToken, type TokenCheck } from '../auth/tokens';
+
+const waiting = new Map<string, Promise<TokenCheck>>();
+
+export async function authenticateTokenBatched(token: string): Promise<TokenCheck> {
+  let check = waiting.get(token);
+  if (!check) {
+    check = new Promise<TokenCheck>((resolve, reject) => {
+      setImmediate(() => {
+        waiting.delete(token);
+        authenticateToken(token).then(resolve, reject);
+      });
+    });
+    waiting.set(token, check);
+  }
+  const result = await check;
+  // each request gets its own copy of the person, so none can change another's
+  return result.ok ? { ok: true, user: { ...result.user, roles: [...result.user.roles] } } : result;
+}
