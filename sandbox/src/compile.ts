@@ -83,16 +83,18 @@ function literalValue(operand: string): number | null {
 }
 
 /**
- * Code that adds v − v of every computed output to one of four sums: 0 while all are finite, NaN from
- * the first that is not. Four sums rather than one keep the additions from forming one long chain.
+ * Code that adds every computed output to one of four sums. The sums stay finite while every output
+ * is finite; a NaN or an infinity makes them non-finite. A sum of finite values that overflows is a
+ * false alarm, settled by the exact scan that follows any alarm. Four sums rather than one keep the
+ * additions from forming one long chain.
  */
 const faultTerms = (operands: string[]) =>
   operands
     .filter((v) => literalValue(v) === null)
-    .map((v, k) => `a${k % 4} += ${v} - ${v};`)
+    .map((v, k) => `a${k % 4} += ${v};`)
     .join(' ');
 const FAULT_SUMS = 'let a0 = 0, a1 = 0, a2 = 0, a3 = 0;';
-const FAULT_FREE = 'a0 + a1 + a2 + a3 === 0';
+const FAULT_FREE = '(a0 + a1 + a2 + a3) - (a0 + a1 + a2 + a3) === 0';
 
 const FUNCTION_NAMES: readonly string[] = [...DERIVATIVE_FUNCTIONS.keys()];
 
@@ -325,18 +327,29 @@ export function compileDefinition(def: Definition): CompiledProgram {
     ...derivValues.flatMap((row, i) => row.map((v, k) => `dN[d + ${i * dim + k}] = ${v};`))
   ].join('\n');
   const checks = faultTerms([...shapeValues, ...derivValues.flat()]);
-  out.push(`function tabulate(P, n) {
-const N = new Float64Array(n * ${nodes});
-const dN = new Float64Array(n * ${nodes * dim});
+  const inputChecks = def.coordinates.map((_, k) => `a${k % 4} += c${k};`).join(' ');
+  // I: the points (n × dim); R: N (n × nodes) and then dN (n × nodes × dim). The result is -1 when
+  // every value is finite, -2 for a non-finite coordinate, the index into N of the first non-finite
+  // N, or -3 - the index into dN of the first non-finite derivative.
+  out.push(`function tabulate(I, R, n) {
+const P = I;
+const N = R.subarray(0, n * ${nodes});
+const dN = R.subarray(n * ${nodes}, n * ${nodes * (dim + 1)});
 ${FAULT_SUMS}
 for (let q = 0; q < n; q++) {
 const p = q * ${dim}; const o = q * ${nodes}; const d = q * ${nodes * dim};
 ${loads}
+${inputChecks}
 ${body.lines.join('\n')}
 ${stores}
 ${checks}
 }
-return ${FAULT_FREE} ? { N, dN, faultN: -1, faultD: -1 } : { N, dN, faultN: fault(N), faultD: fault(dN) };
+if (${FAULT_FREE}) return -1;
+if (fault(P) >= 0) return -2;
+const fN = fault(N);
+if (fN >= 0) return fN;
+const fD = fault(dN);
+return fD >= 0 ? -3 - fD : -1;
 }`);
 
   const fields: CompiledProgram['fields'] = {};
@@ -422,23 +435,27 @@ return ${FAULT_FREE} ? { N, dN, faultN: -1, faultD: -1 } : { N, dN, faultN: faul
       );
     const size = values.length;
     const entry = `e_${ref.replace('.', '_')}`;
-    // V holds every symbol's values; symbol k reads V[base_k + entry × stride_k] (stride 0 for a constant)
+    // I: L, (base, stride) per symbol, then V, every symbol's values (symbol k reads
+    // V[base_k + entry × stride_k], stride 0 for a constant); R: the n × size results. The result is
+    // -1, or the index into R of the first non-finite value.
     const hoist = symbols
       .map((_, k) => `const b${k} = L[${2 * k}]; const s${k} = L[${2 * k + 1}];`)
       .join(' ');
     const loads = symbols.map((_, k) => `const v${k} = V[b${k} + e * s${k}];`).join(' ');
-    out.push(`function ${entry}(V, L, n) {
-const O = new Float64Array(n * ${size});
+    out.push(`function ${entry}(I, R, n) {
+const L = I.subarray(0, ${2 * symbols.length});
+const V = I.subarray(${2 * symbols.length});
+const O = R;
 ${hoist}
 ${FAULT_SUMS}
 for (let e = 0; e < n; e++) {
 const o = e * ${size};
 ${loads}
 ${body.lines.join('\n')}
-${values.map((v, k) => (literalValue(v) === 0 ? '' : `O[o + ${k}] = ${v};`)).join('\n')}
+${values.map((v, k) => `O[o + ${k}] = ${v};`).join('\n')}
 ${faultTerms(values)}
 }
-return { O, fault: ${FAULT_FREE} ? -1 : fault(O) };
+return ${FAULT_FREE} ? -1 : fault(O);
 }`);
     fields[ref] = { entry, symbols, size, rows, cols };
   }

@@ -39,9 +39,19 @@ interface Worker {
   run: ivm.Reference<(...args: unknown[]) => unknown>;
   installed: Map<string, true>;
   broken: boolean;
+  /** the isolate's `__runMoved`, for a batch larger than the arena */
+  runMoved: ivm.Reference<(...args: unknown[]) => unknown>;
+  /** the arena shared with the isolate (inputs are written and results read here) */
+  A: Float64Array;
+  /** whether buffers were moved through this isolate since it was last checked */
+  moved: boolean;
 }
 
-type RunResult = Record<string, unknown> & { missing?: boolean };
+/**
+ * Doubles in each isolate's shared arena (8 MiB): a batch whose input and results fit goes through it
+ * without creating anything per call.
+ */
+const ARENA_DOUBLES = 1_048_576;
 
 const isFloat64 = (v: unknown): v is Float64Array => v instanceof Float64Array;
 
@@ -58,7 +68,13 @@ export class SandboxPool {
   private readonly programs = new Map<string, CompiledProgram>();
   private readonly compiled = new WeakMap<Definition, CompiledProgram>();
   /** counters for monitoring and tests */
-  readonly stats = { isolatesStarted: 0, isolatesReplaced: 0, calls: 0, programsInstalled: 0 };
+  readonly stats = {
+    isolatesStarted: 0,
+    isolatesReplaced: 0,
+    isolatesRecycled: 0,
+    calls: 0,
+    programsInstalled: 0
+  };
 
   constructor(opts: SandboxOptions = {}) {
     this.size = Math.max(1, Math.floor(opts.poolSize ?? Math.min(4, availableParallelism())));
@@ -89,18 +105,27 @@ export class SandboxPool {
     const count = points.length / dim;
     if (count > MAX_BATCH)
       throw new SandboxError('invalid', `${count} points in one call; the limit is ${MAX_BATCH}`);
-    for (let i = 0; i < points.length; i++)
-      if (!Number.isFinite(points[i]))
-        throw new SandboxError('invalid', `point ${Math.floor(i / dim)} has a non-finite coordinate`, {
-          point: Math.floor(i / dim)
-        });
     this.checkMemory(count * nodes * (dim + 1) + points.length, `tabulating ${count} points`);
-    const r = await this.call(program, 'tabulate', [points.slice(), count, 0], `tabulating ${def.name}`);
-    const N = r.N as Float64Array;
-    const dN = r.dN as Float64Array;
-    const faultN = r.faultN as number;
-    const faultD = r.faultD as number;
-    if (faultN >= 0 || faultD >= 0) {
+    const { code, R } = await this.call(
+      program,
+      'tabulate',
+      points.length,
+      (I) => I.set(points),
+      count * nodes * (dim + 1),
+      count,
+      `tabulating ${def.name}`
+    );
+    const N = R.subarray(0, count * nodes);
+    const dN = R.subarray(count * nodes);
+    if (code === -2) {
+      const at = points.findIndex((v) => !Number.isFinite(v));
+      throw new SandboxError('invalid', `point ${Math.floor(at / dim)} has a non-finite coordinate`, {
+        point: Math.floor(at / dim)
+      });
+    }
+    if (code !== -1) {
+      const faultN = code >= 0 ? code : -1;
+      const faultD = code <= -3 ? -3 - code : -1;
       const [q, i, k] =
         faultN >= 0
           ? [Math.floor(faultN / nodes), faultN % nodes, -1]
@@ -152,7 +177,6 @@ export class SandboxPool {
       thickness: def.thickness ?? 1,
       area: def.area ?? 1
     };
-    // one buffer for all inputs: arrays first, then the constants; L holds (base, stride) per symbol
     const given = compiled.symbols.map((symbol) => {
       const v = Object.prototype.hasOwnProperty.call(env, symbol) ? env[symbol] : defaults[symbol];
       if (v === undefined)
@@ -174,27 +198,34 @@ export class SandboxPool {
     });
     const arrays = given.filter(isFloat64).length;
     this.checkMemory(count * compiled.size + arrays * count, `evaluating ${field} at ${count} entries`);
-    const V = new Float64Array(arrays * count + given.length);
-    const L = new Float64Array(2 * given.length);
-    let next = 0;
-    given.forEach((v, k) => {
-      if (isFloat64(v)) {
-        V.set(v, next);
-        L[2 * k] = next;
-        L[2 * k + 1] = 1;
+    // one buffer for all inputs: L, (base, stride) per symbol, then V, the arrays first and the
+    // constants after them
+    const V = 2 * given.length;
+    const write = (I: Float64Array) => {
+      let next = 0;
+      given.forEach((v, k) => {
+        if (typeof v === 'number') return;
+        I.set(v, V + next);
+        I[2 * k] = next;
+        I[2 * k + 1] = 1;
         next += count;
-      }
-    });
-    given.forEach((v, k) => {
-      if (typeof v === 'number') {
-        V[next] = v;
-        L[2 * k] = next++;
-        L[2 * k + 1] = 0;
-      }
-    });
-    const r = await this.call(program, compiled.entry, [V, L, count], `evaluating ${field} of ${def.name}`);
-    const O = r.O as Float64Array;
-    const fault = r.fault as number;
+      });
+      given.forEach((v, k) => {
+        if (typeof v !== 'number') return;
+        I[V + next] = v;
+        I[2 * k] = next++;
+        I[2 * k + 1] = 0;
+      });
+    };
+    const { code: fault, R: O } = await this.call(
+      program,
+      compiled.entry,
+      V + arrays * count + given.length - arrays,
+      write,
+      count * compiled.size,
+      count,
+      `evaluating ${field} of ${def.name}`
+    );
     if (fault >= 0) {
       const entry = Math.floor(fault / compiled.size);
       const component = fault % compiled.size;
@@ -279,8 +310,29 @@ export class SandboxPool {
       const run = (await context.global.get('__run', { reference: true })) as ivm.Reference<
         (...args: unknown[]) => unknown
       >;
+      const runMoved = (await context.global.get('__runMoved', { reference: true })) as ivm.Reference<
+        (...args: unknown[]) => unknown
+      >;
+      const arena = new SharedArrayBuffer(ARENA_DOUBLES * 8);
+      await context.evalClosure(
+        'return __arena($0)',
+        [new ivm.ExternalCopy(arena).copyInto({ release: true })],
+        {
+          timeout: this.timeoutMs
+        }
+      );
+      const w: Worker = {
+        isolate,
+        context,
+        run,
+        runMoved,
+        A: new Float64Array(arena),
+        installed: new Map(),
+        broken: false,
+        moved: false
+      };
       this.stats.isolatesStarted++;
-      return { isolate, context, run, installed: new Map(), broken: false };
+      return w;
     } catch (error) {
       if (!isolate.isDisposed) isolate.dispose();
       throw new SandboxError('internal', `an isolate could not be started: ${(error as Error).message}`);
@@ -316,16 +368,27 @@ export class SandboxPool {
       this.retire(w);
       return;
     }
+    if (w.moved) {
+      // a moved buffer stays counted against the isolate until the isolate collects its garbage,
+      // which a heap this small seldom needs: recycle it before the count nears the limit
+      w.moved = false;
+      const heap = w.isolate.getHeapStatisticsSync();
+      if (heap.externally_allocated_size + heap.used_heap_size > (this.memoryLimitMb * 2 ** 20) / 2) {
+        this.retire(w, true);
+        return;
+      }
+    }
     const next = this.waiters.shift();
     if (next) next(w);
     else this.idle.push(w);
   }
 
-  /** Disposes a faulted isolate; a waiting call gets a fresh one. */
-  private retire(w: Worker) {
+  /** Disposes a faulted isolate, or a sound one whose count of moved buffers grew; a waiting call gets a fresh one. */
+  private retire(w: Worker, recycled = false) {
     this.kill(w);
     this.workers.delete(w);
-    this.stats.isolatesReplaced++;
+    if (recycled) this.stats.isolatesRecycled++;
+    else this.stats.isolatesReplaced++;
     const next = this.waiters.shift();
     if (next)
       this.acquire().then(next, () => {
@@ -366,34 +429,63 @@ export class SandboxPool {
     }
   }
 
-  /** One call: Float64Array arguments are moved into the isolate (they must be arrays of the pool's own), results moved out. */
+  /**
+   * One call on one isolate: `write` fills the program's input of `inLength` numbers, the program
+   * writes `outLength` results. A batch that fits the isolate's shared arena goes through it (the
+   * input is written there, only numbers cross, the results are copied out); for a larger one the
+   * host allocates the result buffer and moves it in, and gets it back without a copy, the input
+   * still in the arena when it fits. Returns the program's code (-1, or where the first non-finite
+   * value is) and the results.
+   */
   private async call(
     program: CompiledProgram,
     entry: string,
-    args: [unknown, unknown, unknown],
+    inLength: number,
+    write: (input: Float64Array) => void,
+    outLength: number,
+    count: number,
     what: string
-  ): Promise<RunResult> {
-    const w = await this.acquire();
+  ): Promise<{ code: number; R: Float64Array }> {
     this.stats.calls++;
+    const w = await this.acquire();
     try {
       await this.install(w, program);
-      const sent: unknown[] = args.map((a) =>
-        a instanceof Float64Array
-          ? new ivm.ExternalCopy(a, { transferOut: true }).copyInto({ release: true, transferIn: true })
-          : a
-      );
-      const result = (await w.run.apply(undefined, [program.key, entry, ...sent] as never, {
-        timeout: this.timeoutMs,
-        result: { copy: true }
-      })) as RunResult;
-      if (result?.missing) w.installed.delete(program.key);
-      if (!result || typeof result !== 'object' || result.missing)
-        throw new SandboxError('internal', `${what}: the sandbox returned no result`);
-      for (const key of Object.keys(result)) {
-        const v = result[key];
-        if (v instanceof ivm.ExternalCopy) result[key] = v.copy({ transferIn: true }) as Float64Array;
+      if (inLength + outLength <= w.A.length) {
+        write(w.A.subarray(0, inLength));
+        const code = await w.run.apply(undefined, [program.key, entry, inLength, outLength, count], {
+          timeout: this.timeoutMs
+        });
+        if (code === 'missing') w.installed.delete(program.key);
+        if (typeof code !== 'number' || !Number.isInteger(code))
+          throw new SandboxError('internal', `${what}: the sandbox returned no result`);
+        return { code, R: w.A.slice(inLength, inLength + outLength) };
       }
-      return result;
+      // the input goes through the arena when it fits, else it is written into a buffer moved in
+      const I = inLength <= w.A.length ? null : new Float64Array(inLength);
+      write(I ?? w.A.subarray(0, inLength));
+      const R = new Float64Array(outLength);
+      w.moved = true;
+      const result = (await w.runMoved.apply(
+        undefined,
+        [
+          program.key,
+          entry,
+          I === null
+            ? inLength
+            : new ivm.ExternalCopy(I, { transferOut: true }).copyInto({ release: true, transferIn: true }),
+          new ivm.ExternalCopy(R, { transferOut: true }).copyInto({ release: true, transferIn: true }),
+          count
+        ],
+        { timeout: this.timeoutMs, result: { copy: true } }
+      )) as { code: unknown; R?: unknown };
+      if (result?.code === 'missing') w.installed.delete(program.key);
+      if (
+        typeof result?.code !== 'number' ||
+        !Number.isInteger(result.code) ||
+        !(result.R instanceof ivm.ExternalCopy)
+      )
+        throw new SandboxError('internal', `${what}: the sandbox returned no result`);
+      return { code: result.code, R: result.R.copy({ transferIn: true }) as Float64Array };
     } catch (error) {
       if (error instanceof SandboxError) throw error;
       w.broken = true;

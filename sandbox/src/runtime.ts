@@ -1,11 +1,18 @@
 // The script every isolate starts with: a frozen table of the math functions compiled programs may
 // call, and the entry points the host reaches through references. Programs are installed once per
-// key; numbers come in and go out as typed arrays whose buffers are moved, not serialised.
+// key; numbers cross either through the isolate's shared arena or as moved buffers, never serialised.
 
 /**
  * Bootstrap source run once in each new isolate. The host sets `_ivm` (the isolated-vm module) just
  * before; the bootstrap keeps only its ExternalCopy class, privately, to hand result buffers back,
- * and removes the global. No host object stays reachable from the isolate.
+ * and removes the global. No host object stays reachable from the isolate but the arena, one
+ * SharedArrayBuffer handed over once.
+ *
+ * Two ways in: `__run` for a batch that fits the arena (the host writes the input there, the call
+ * passes only numbers and returns one, the host reads the results back: nothing is created per
+ * call); `__runMoved` for a larger batch, whose result buffer the host allocated and moves in, and
+ * which is moved back out without a copy; its input is in the arena when it fits (I is then its
+ * length), else moved in as well.
  */
 export const BOOTSTRAP = `(function () {
 'use strict';
@@ -21,23 +28,28 @@ const M = Object.freeze({
   sign: Math.sign
 });
 const programs = new Map();
-const moveOut = function (result) {
-  const out = {};
-  for (const key of Object.keys(result)) {
-    const v = result[key];
-    out[key] = v instanceof Float64Array ? new ExternalCopy(v, { transferOut: true }) : v;
-  }
-  return out;
+let A = null;
+const entryOf = function (key, entry) {
+  const program = programs.get(key);
+  if (!program) return null;
+  const fn = program[entry];
+  return typeof fn === 'function' ? fn : null;
 };
 globalThis.__install = function (key, factory) { programs.set(key, factory(M)); return true; };
 globalThis.__unload = function (key) { programs.delete(key); return true; };
-globalThis.__run = function (key, entry, a, b, c) {
-  const program = programs.get(key);
-  if (!program) return { missing: true };
-  if (entry === 'tabulate') return moveOut(program.tabulate(a, b));
-  const fn = program[entry];
-  if (typeof fn !== 'function') return { missing: true };
-  return moveOut(fn(a, b, c));
+globalThis.__arena = function (sab) { A = new Float64Array(sab); return A.length; };
+globalThis.__run = function (key, entry, inLength, outLength, n) {
+  const fn = entryOf(key, entry);
+  if (!fn || A === null) return 'missing';
+  return fn(A.subarray(0, inLength), A.subarray(inLength, inLength + outLength), n);
+};
+globalThis.__runMoved = function (key, entry, I, R, n) {
+  const fn = entryOf(key, entry);
+  if (!fn || !(R instanceof Float64Array)) return { code: 'missing' };
+  const input = typeof I === 'number' && A !== null ? A.subarray(0, I) : I;
+  if (!(input instanceof Float64Array)) return { code: 'missing' };
+  const code = fn(input, R, n);
+  return { code: code, R: new ExternalCopy(R, { transferOut: true }) };
 };
 })();
 `;

@@ -210,6 +210,56 @@ describe('the pool', () => {
     }
   });
 
+  it('returns results the caller owns: a later call through the same isolate leaves them as they were', async () => {
+    const p = new SandboxPool({ poolSize: 1 });
+    try {
+      // linear triangle: N = (1 - xi - eta, xi, eta), area coordinates (textbook)
+      const first = await p.tabulate(tri3, new Float64Array([0.2, 0.3]));
+      const kept = Array.from(first.N);
+      const second = await p.tabulate(tri3, new Float64Array([0.6, 0.1]));
+      expect(kept).toEqual([0.5, 0.2, 0.3]);
+      expect(Array.from(first.N)).toEqual(kept);
+      expect(Array.from(second.N).map((v) => +v.toFixed(15))).toEqual([0.3, 0.6, 0.1]);
+    } finally {
+      await p.dispose();
+    }
+  });
+
+  it('serves a long run of large batches without the isolate running out of memory', async () => {
+    // each call moves about 20 MB of results through an isolate limited to 64 MB: buffers an isolate
+    // has been handed stay counted against it until it collects its garbage, which a heap this small
+    // seldom needs, so without recycling the isolate is killed after a few calls
+    const p = new SandboxPool({ poolSize: 1, memoryLimitMb: 64 });
+    const entries = 400_000;
+    const dNdx = Float64Array.from({ length: entries }, (_, i) => Math.sin(i));
+    const dNdy = Float64Array.from({ length: entries }, (_, i) => Math.cos(i));
+    try {
+      for (let i = 0; i < 40; i++) {
+        const B = await p.evaluate(custom, 'B', { dNdx, dNdy }, entries);
+        // [dNdx, 0; 0, dNdy; dNdy, dNdx] row-major for entry i
+        const e = (i * 9973) % entries;
+        expect(Array.from(B.subarray(6 * e, 6 * e + 6))).toEqual([dNdx[e], 0, 0, dNdy[e], dNdy[e], dNdx[e]]);
+      }
+      expect(p.stats.isolatesReplaced).toBe(0);
+      expect(p.stats.isolatesRecycled).toBeGreaterThan(0);
+    } finally {
+      await p.dispose();
+    }
+  });
+
+  it('serves small batches through the isolate’s arena without recycling it', async () => {
+    const p = new SandboxPool({ poolSize: 1, memoryLimitMb: 16 });
+    try {
+      for (let i = 0; i < 500; i++) {
+        const t = await p.tabulate(hex20, new Float64Array([0.1, -0.2, 0.3]));
+        expect(t.N.length).toBe(20);
+      }
+      expect(p.stats).toMatchObject({ isolatesStarted: 1, isolatesReplaced: 0, isolatesRecycled: 0 });
+    } finally {
+      await p.dispose();
+    }
+  });
+
   it('refuses calls after dispose', async () => {
     const p = new SandboxPool({ poolSize: 1 });
     await p.tabulate(tri3, new Float64Array([0.1, 0.1]));
