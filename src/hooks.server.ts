@@ -3,7 +3,7 @@
 // limits, the cache of immutable representations and weak ETags on lists (api/traffic.ts).
 // SvelteKit's origin check stays on.
 import type { Handle, HandleServerError } from '@sveltejs/kit';
-import { ulid } from 'ulid';
+import { newId } from '$lib/server/ids';
 import { apiErrorResponse } from '$lib/server/api';
 import {
   applyCookie,
@@ -46,7 +46,7 @@ function securityHeaders(response: Response, requestId: string): Response {
 
 export const handle: Handle = async ({ event, resolve }) => {
   const incoming = event.request.headers.get('x-request-id');
-  const requestId = incoming && REQUEST_ID.test(incoming) ? incoming : ulid();
+  const requestId = incoming && REQUEST_ID.test(incoming) ? incoming : newId();
   event.locals.requestId = requestId;
   event.locals.user = null;
   event.locals.sessionId = null;

@@ -22,9 +22,17 @@ export async function startServer(opts: {
   port: number;
   env: Record<string, string>;
   quiet?: boolean;
+  /** more node flags (a profiler's, say) */
+  nodeArgs?: string[];
+  /** CPUs the server may run on (taskset's list, such as '1'); all when absent */
+  cpus?: string;
 }): Promise<RunningServer> {
   const url = `http://127.0.0.1:${opts.port}`;
-  const child = spawn(process.execPath, [...nodeFlags(), join(ROOT, 'build', 'index.js')], {
+  const args = [...nodeFlags(), ...(opts.nodeArgs ?? []), join(ROOT, 'build', 'index.js')];
+  const [command, argv] = opts.cpus
+    ? ['taskset', ['--cpu-list', opts.cpus, process.execPath, ...args]]
+    : [process.execPath, args];
+  const child = spawn(command, argv, {
     cwd: ROOT,
     env: {
       ...process.env,

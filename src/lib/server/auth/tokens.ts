@@ -7,7 +7,7 @@
 // Revocation and expiry take effect on the next request.
 import { createHash, randomBytes } from 'node:crypto';
 import { QueryTypes } from 'sequelize';
-import { ulid } from 'ulid';
+import { newId } from '../ids';
 import { getSequelize, inTransaction } from '../db';
 import { appendAudit } from '../registry/audit';
 import { ApiError } from '../api/errors';
@@ -102,7 +102,7 @@ export async function createToken(
     });
   }
   const token = TOKEN_PREFIX + randomBytes(32).toString('base64url');
-  const id = ulid();
+  const id = newId();
   const now = new Date();
   const row: TokenRow = {
     id,

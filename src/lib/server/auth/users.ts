@@ -1,5 +1,5 @@
 // People and their roles. Every change is written with its audit event in one transaction.
-import { ulid } from 'ulid';
+import { newId } from '../ids';
 import { QueryTypes, type Transaction } from 'sequelize';
 import { getSequelize, inTransaction } from '../db';
 import { appendAudit, type AuditActor } from '../registry/audit';
@@ -116,7 +116,7 @@ export async function createUser(
     if (existing) throw new AccountError('conflict', `an account for ${email} already exists`, 'email');
     const roles = new Set<Role>(input.roles ?? []);
     if (opts.firstBecomesAdmin && (await countUsers(t)) === 0) roles.add('admin');
-    const id = ulid();
+    const id = newId();
     const now = new Date();
     await getSequelize().query(
       'INSERT INTO users (id, email, name, password_hash, created_at) VALUES (?, ?, ?, ?, ?)',

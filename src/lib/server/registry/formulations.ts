@@ -1,5 +1,5 @@
 // Formulations: a name (the documents' slug), a title, an owner, and versions.
-import { ulid } from 'ulid';
+import { newId } from '../ids';
 import { appendAudit } from './audit';
 import { actorOf, canSee, seesDrafts, VERSION_STATUSES, type VersionStatus, type Viewer } from './access';
 import { conflict, forbidden, malformed } from './errors';
@@ -104,7 +104,7 @@ export async function createFormulation(
     // the unique name decides between two people creating the same name at once
     await exec(
       'INSERT INTO formulations (id, name, title, owner_id, created_at) VALUES (?, ?, ?, ?, ?)',
-      [ulid(), name, title, actor.id, now],
+      [newId(), name, title, actor.id, now],
       t
     ).catch((e: unknown) => {
       throw isDuplicateKey(e) ? exists() : e;

@@ -1,6 +1,6 @@
 // Projects pin released versions: at most one version of each formulation per project. The
 // manifest lists every pin with its definitionHash and record, for offline checks by solvers.
-import { ulid } from 'ulid';
+import { newId } from '../ids';
 import type { Transaction } from 'sequelize';
 import { appendAudit } from './audit';
 import { actorOf, type VersionStatus, type Viewer } from './access';
@@ -112,7 +112,7 @@ export async function createProject(
     // the unique key decides between two leads creating the same key at once
     await exec(
       'INSERT INTO projects (id, `key`, title, lead_id, created_at) VALUES (?, ?, ?, ?, ?)',
-      [ulid(), key, title, actor.id, now],
+      [newId(), key, title, actor.id, now],
       t
     ).catch((e: unknown) => {
       throw isDuplicateKey(e) ? exists() : e;

@@ -1,6 +1,6 @@
 // Review and release: in-review → released (approve) or back to draft (reject), by a reviewer who
 // wrote no part of the version; released → withdrawn with a reason. Mail goes out after commit.
-import { ulid } from 'ulid';
+import { newId } from '../ids';
 import type { Transaction } from 'sequelize';
 import { appendAudit } from './audit';
 import { actorOf, type Viewer } from './access';
@@ -94,7 +94,7 @@ export async function reviewVersion(
     const approved = input.decision === 'approve';
     await exec(
       'INSERT INTO reviews (id, version_id, reviewer_id, decision, comment, record_id, created_at) VALUES (?, ?, ?, ?, ?, ?, ?)',
-      [ulid(), v.id, actor.id, input.decision, comment, v.record_id, now],
+      [newId(), v.id, actor.id, input.decision, comment, v.record_id, now],
       t
     );
     if (approved) {

@@ -1,6 +1,6 @@
 // Versions of a formulation: drafts are created and edited by authors, verified, and submitted for
 // review. Only drafts change; released and withdrawn versions are immutable.
-import { ulid } from 'ulid';
+import { newId } from '../ids';
 import type { Transaction } from 'sequelize';
 import { parseFormulation, type Definition, type Diagnostic } from '@isoledger/formulation';
 import { enqueueRun } from '../runs/queue';
@@ -132,7 +132,7 @@ export async function createDraft(
         }
       );
     }
-    const id = ulid();
+    const id = newId();
     const now = new Date();
     await exec(
       `INSERT INTO formulation_versions (id, formulation_id, version, status, source, definition, source_hash, definition_hash, cell, author_id, created_at, updated_at)

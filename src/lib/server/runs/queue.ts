@@ -6,7 +6,7 @@
 import { createHash } from 'node:crypto';
 import canonicalize from 'canonicalize';
 import { QueryTypes, Transaction } from 'sequelize';
-import { ulid } from 'ulid';
+import { newId } from '../ids';
 import { ENGINE_VERSION, recordHash, type VerificationRecord } from '@isoledger/verify';
 import { getSequelize } from '../db';
 import { appendAudit, type AuditActor } from '../registry/audit';
@@ -292,7 +292,7 @@ export async function latestRecordFor(
 export async function enqueueRun(input: NewRun, t?: Transaction): Promise<EnqueuedRun> {
   const maxAttempts = checkNewRun(input);
   const sequelize = getSequelize();
-  const id = ulid();
+  const id = newId();
   const now = new Date();
   const reuse = await latestRecordFor(input.definitionHash, ENGINE_VERSION, t);
   await sequelize.query(
@@ -454,7 +454,7 @@ export async function complete(runId: string, workerId: string, record: Verifica
         'record'
       );
     }
-    const id = ulid();
+    const id = newId();
     await sequelize.query(
       `INSERT INTO verification_records (id, run_id, definition_hash, engine_version, verdict, record, record_hash, created_at)
        VALUES (?, ?, ?, ?, ?, ?, ?, NOW(3))`,

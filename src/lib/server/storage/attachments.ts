@@ -2,7 +2,7 @@
 // typed from their content, stored in S3 with their SHA-256 kept in MariaDB, frozen once the
 // version leaves draft.
 import { createHash } from 'node:crypto';
-import { ulid } from 'ulid';
+import { newId } from '../ids';
 import { appendAudit } from '../registry/audit';
 import { actorOf, type Viewer } from '../registry/access';
 import { conflict, malformed, notFound, RegistryError } from '../registry/errors';
@@ -115,7 +115,7 @@ export async function addAttachment(
     throw duplicate(name, version, filename);
   }
   const sha256 = createHash('sha256').update(input.bytes).digest('hex');
-  const id = ulid();
+  const id = newId();
   const key = `attachments/${v0.id}/${id}`;
   // The bytes go first: a row never points at an object that is not there. Should the row then
   // not commit, the orphaned object is removed again.
