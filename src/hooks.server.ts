@@ -3,7 +3,6 @@
 // limits, the cache of immutable representations and weak ETags on lists (api/traffic.ts).
 // SvelteKit's origin check stays on.
 import type { Handle, HandleServerError } from '@sveltejs/kit';
-import { newId } from '$lib/server/ids';
 import { apiErrorResponse } from '$lib/server/api';
 import {
   applyCookie,
@@ -11,7 +10,9 @@ import {
   SESSION_COOKIE,
   validateSessionToken
 } from '$lib/server/auth/sessions';
-import { authenticateTokenBatched } from '$lib/server/api/token-batch';
+import { authenticateBearer } from '$lib/server/api/token-batch';
+import { requestIdOf, securityHeaders } from '$lib/server/api/response-headers';
+import { frontDoor, FRONT_DOOR } from '$lib/server/api/front-door';
 import {
   afterRoute,
   answerFromCache,
@@ -20,33 +21,8 @@ import {
   refuseOverTokenLimit
 } from '$lib/server/api/traffic';
 
-const REQUEST_ID = /^[A-Za-z0-9._:-]{1,64}$/;
-
-// pages get their Content-Security-Policy from kit.csp (svelte.config.js, with nonces for SvelteKit's
-// own scripts); anything else (JSON, files) gets this one, which allows nothing to run or frame it
-const NON_PAGE_CSP = "default-src 'none'; frame-ancestors 'none'; base-uri 'none'";
-
-function securityHeaders(response: Response, requestId: string): Response {
-  const set = (name: string, value: string) => {
-    if (!response.headers.has(name)) response.headers.set(name, value);
-  };
-  try {
-    response.headers.set('x-request-id', requestId);
-    set('x-content-type-options', 'nosniff');
-    set('referrer-policy', 'same-origin');
-    set('x-frame-options', 'DENY');
-    set('cross-origin-opener-policy', 'same-origin');
-    set('permissions-policy', 'camera=(), microphone=(), geolocation=(), payment=()');
-    set('content-security-policy', NON_PAGE_CSP);
-  } catch {
-    // a response with immutable headers (a proxied fetch) keeps its own
-  }
-  return response;
-}
-
 export const handle: Handle = async ({ event, resolve }) => {
-  const incoming = event.request.headers.get('x-request-id');
-  const requestId = incoming && REQUEST_ID.test(incoming) ? incoming : newId();
+  const requestId = requestIdOf(event.request.headers.get('x-request-id'));
   event.locals.requestId = requestId;
   event.locals.user = null;
   event.locals.sessionId = null;
@@ -68,25 +44,9 @@ export const handle: Handle = async ({ event, resolve }) => {
 
   const authorization = event.request.headers.get('authorization');
   if (authorization !== null) {
-    const m = /^Bearer[ ]+(\S+)\s*$/i.exec(authorization);
-    if (!m) {
-      return securityHeaders(
-        apiErrorResponse(401, 'unauthenticated', "the Authorization header must be 'Bearer <API token>'"),
-        requestId
-      );
-    }
-    const check = await authenticateTokenBatched(m[1]);
-    if (!check.ok) {
-      return securityHeaders(
-        apiErrorResponse(
-          401,
-          check.reason === 'unknown' ? 'token-invalid' : `token-${check.reason}`,
-          check.message
-        ),
-        requestId
-      );
-    }
-    event.locals.user = check.user;
+    const bearer = await authenticateBearer(authorization);
+    if (!bearer.ok) return securityHeaders(bearer.response, requestId);
+    event.locals.user = bearer.user;
   } else {
     const token = event.cookies.get(SESSION_COOKIE);
     if (token) {
@@ -158,7 +118,10 @@ import { startRunWorkers, type RunWorkers } from '$lib/server/runs/pool';
 let runWorkers: RunWorkers | null = null;
 
 export const init: ServerInit = async () => {
-  if (building || runWorkers) return;
+  if (building) return;
+  // the production entry (server/index.js) answers cached immutable reads here before SvelteKit
+  (globalThis as Record<symbol, unknown>)[FRONT_DOOR] = frontDoor;
+  if (runWorkers) return;
   const size = config().workers;
   if (size === 0) return;
   runWorkers = await startRunWorkers({ size, log: (line) => console.log(`[isoledger] ${line}`) });

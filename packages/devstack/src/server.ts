@@ -35,7 +35,7 @@ export async function startServer(opts: {
   cpus?: string;
 }): Promise<RunningServer> {
   const url = `http://127.0.0.1:${opts.port}`;
-  const args = [...nodeFlags(), ...SERVER_FLAGS, ...(opts.nodeArgs ?? []), join(ROOT, 'build', 'index.js')];
+  const args = [...nodeFlags(), ...SERVER_FLAGS, ...(opts.nodeArgs ?? []), join(ROOT, 'server', 'index.js')];
   const [command, argv] = opts.cpus
     ? ['taskset', ['--cpu-list', opts.cpus, process.execPath, ...args]]
     : [process.execPath, args];

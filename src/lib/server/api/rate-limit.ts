@@ -3,9 +3,9 @@
 //
 // Counting every request with a database write would cost more than serving a cached version, so a
 // process reserves a share of a bucket's window at a time (one locked read-modify-write) and spends
-// it in memory, reserving the next share while a quarter of the last is left. The sum of all
+// it in memory, reserving the next share while half of the last is left. The sum of all
 // reservations never exceeds the limit, so all processes together never admit more than the limit;
-// at worst other processes hold unspent hits (under a share and a quarter each) that this one
+// at worst other processes hold unspent hits (under a share and a half each) that this one
 // cannot use. Limits below 40 reserve one hit at a time, which makes them exact.
 import { QueryTypes } from 'sequelize';
 import { getSequelize, inTransaction } from '../db';
@@ -49,7 +49,7 @@ export interface Admission {
 }
 
 /** A share is a twentieth of the limit, at least 1 and at most this many hits. */
-const MAX_SHARE = 500;
+const MAX_SHARE = 2000;
 const SHARES_PER_WINDOW = 20;
 /** buckets of ended windows are dropped from memory once there are this many */
 const PRUNE_AT = 10_000;
@@ -131,7 +131,7 @@ export class SharedRateLimiter {
       if (local.spent < local.reserved) {
         local.spent++;
         // a busy bucket reserves its next share before this one runs out, so no request waits for it
-        if (share > 1 && !local.reserving && !local.exhausted && local.reserved - local.spent <= share / 4)
+        if (share > 1 && !local.reserving && !local.exhausted && local.reserved - local.spent <= share / 2)
           this.reserveFor(bucket, local, share, limit, now).catch(() => undefined);
         return { allowed: true, retryAfterSeconds: 0 };
       }

@@ -7,6 +7,7 @@ import { errorToResponse, tooManyRequests } from './errors';
 import { operationFor, routeIdOf, type Operation } from './operations';
 import { apiRateLimits, SharedRateLimiter, type ApiRateLimits } from './rate-limit';
 import {
+  type CachedRepresentation,
   isImmutableResponse,
   ResponseCache,
   respondFromCache,
@@ -72,6 +73,14 @@ export async function refuseOverTokenLimit(
 /** The route's path with its parameters encoded one way, so equal resources share one key. */
 function canonicalPath(routeId: string, params: Partial<Record<string, string>>): string {
   return routeId.replace(/\[(\w+)\]/g, (_, k: string) => encodeURIComponent(params[k] ?? ''));
+}
+
+/** The immutable representation this process holds for a route and its parameters, if fresh. */
+export function peekCache(
+  routeId: string,
+  params: Partial<Record<string, string>>
+): CachedRepresentation | undefined {
+  return cache.get(canonicalPath(routeId, params));
 }
 
 /** A signed-in GET of an immutable representation this process holds, answered without the route. */
