@@ -439,7 +439,7 @@ return fD >= 0 ? -3 - fD : -1;
     // V[base_k + entry × stride_k], stride 0 for a constant); R: the n × size results. The result is
     // -1, or the index into R of the first non-finite value.
     const hoist = symbols
-      .map((_, k) => `const b${k} = L[${2 * k}]; const s${k} = L[${2 * k + 1}];`)
+      .map((_, k) => `const b${k} = L[${2 * k}] | 0; const s${k} = L[${2 * k + 1}] | 0;`)
       .join(' ');
     const loads = symbols.map((_, k) => `const v${k} = V[b${k} + e * s${k}];`).join(' ');
     out.push(`function ${entry}(I, R, n) {
