@@ -118,6 +118,19 @@ describe('the registry screens at 375 px', () => {
     // by keyboard: the frame takes focus and the arrow keys scroll it
     await frame.focus();
     for (let i = 0; i < 8; i++) await page.keyboard.press('ArrowRight');
+    // the browser scrolls smoothly: wait until the frame has moved and come to rest
+    let last = -1;
+    await expect
+      .poll(
+        async () => {
+          const now = await frame.evaluate((el) => el.scrollLeft);
+          const resting = now > 0 && now === last;
+          last = now;
+          return resting;
+        },
+        { timeout: 5000, interval: 100 }
+      )
+      .toBe(true);
     const after = await frame.evaluate((el) => ({
       scrolled: el.scrollLeft,
       left: el.querySelector('tbody th')!.getBoundingClientRect().left
