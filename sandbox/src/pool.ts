@@ -1,6 +1,7 @@
 // A warm pool of isolated-vm isolates. Each isolate has a memory limit, every call a time limit;
 // an isolate that timed out, ran out of memory or broke is disposed and replaced, and the fault
-// comes back as a SandboxError. The host process never runs the compiled code itself.
+// comes back as a SandboxError; one that has been handed more moved buffers than half its limit is
+// recycled. The host process never runs the compiled code itself.
 import ivm from 'isolated-vm';
 import { availableParallelism } from 'node:os';
 import type { Definition } from '@isoledger/formulation';
@@ -283,7 +284,7 @@ export class SandboxPool {
     return program;
   }
 
-  /** Refuses a batch whose arrays alone would not fit the isolate's heap. */
+  /** Refuses a batch whose input and results, moved through the isolate, would not fit its memory limit twice over. */
   private checkMemory(doubles: number, what: string) {
     const bytes = doubles * 8 * 2;
     if (bytes > this.memoryLimitMb * 2 ** 20)
@@ -429,6 +430,14 @@ export class SandboxPool {
     }
   }
 
+  /** The program's code from a call's result; 'missing' means the isolate lost the program. */
+  private codeOf(w: Worker, program: CompiledProgram, code: unknown, what: string): number {
+    if (code === 'missing') w.installed.delete(program.key);
+    if (typeof code !== 'number' || !Number.isInteger(code))
+      throw new SandboxError('internal', `${what}: the sandbox returned no result`);
+    return code;
+  }
+
   /**
    * One call on one isolate: `write` fills the program's input of `inLength` numbers, the program
    * writes `outLength` results. A batch that fits the isolate's shared arena goes through it (the
@@ -455,10 +464,7 @@ export class SandboxPool {
         const code = await w.run.apply(undefined, [program.key, entry, inLength, outLength, count], {
           timeout: this.timeoutMs
         });
-        if (code === 'missing') w.installed.delete(program.key);
-        if (typeof code !== 'number' || !Number.isInteger(code))
-          throw new SandboxError('internal', `${what}: the sandbox returned no result`);
-        return { code, R: w.A.slice(inLength, inLength + outLength) };
+        return { code: this.codeOf(w, program, code, what), R: w.A.slice(inLength, inLength + outLength) };
       }
       // the input goes through the arena when it fits, else it is written into a buffer moved in
       const I = inLength <= w.A.length ? null : new Float64Array(inLength);
@@ -478,14 +484,10 @@ export class SandboxPool {
         ],
         { timeout: this.timeoutMs, result: { copy: true } }
       )) as { code: unknown; R?: unknown };
-      if (result?.code === 'missing') w.installed.delete(program.key);
-      if (
-        typeof result?.code !== 'number' ||
-        !Number.isInteger(result.code) ||
-        !(result.R instanceof ivm.ExternalCopy)
-      )
+      const code = this.codeOf(w, program, result?.code, what);
+      if (!(result.R instanceof ivm.ExternalCopy))
         throw new SandboxError('internal', `${what}: the sandbox returned no result`);
-      return { code: result.code, R: result.R.copy({ transferIn: true }) as Float64Array };
+      return { code, R: result.R.copy({ transferIn: true }) as Float64Array };
     } catch (error) {
       if (error instanceof SandboxError) throw error;
       w.broken = true;

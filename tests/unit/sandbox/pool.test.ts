@@ -236,7 +236,7 @@ describe('the pool', () => {
     try {
       for (let i = 0; i < 40; i++) {
         const B = await p.evaluate(custom, 'B', { dNdx, dNdy }, entries);
-        // [dNdx, 0; 0, dNdy; dNdy, dNdx] row-major for entry i
+        // the document's B, [dNdx, 0; 0, dNdy; dNdy, dNdx] (the plane B of Zienkiewicz & Taylor), row-major
         const e = (i * 9973) % entries;
         expect(Array.from(B.subarray(6 * e, 6 * e + 6))).toEqual([dNdx[e], 0, 0, dNdy[e], dNdy[e], dNdx[e]]);
       }

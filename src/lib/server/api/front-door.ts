@@ -6,11 +6,10 @@
 // not cached yet) goes on to SvelteKit untouched, since nothing has been counted or read for it.
 import type { IncomingMessage, ServerResponse } from 'node:http';
 import type { RequestEvent } from '@sveltejs/kit';
-import { matchesIfNoneMatch } from '../runs/view';
 import { errorToResponse } from './errors';
 import { OPERATIONS, routeIdOf, type Operation } from './operations';
 import { requestIdOf, SECURITY_HEADERS, securityHeaders } from './response-headers';
-import type { CachedRepresentation } from './response-cache';
+import { cachedAnswer, type CachedRepresentation } from './response-cache';
 import { authenticateBearer, bearerToken } from './token-batch';
 import { peekCache, refuseOverAddressLimit, refuseOverTokenLimit } from './traffic';
 
@@ -78,14 +77,12 @@ async function sendWeb(res: ServerResponse, response: Response): Promise<void> {
 }
 
 function sendCached(res: ServerResponse, hit: CachedRepresentation, ifNoneMatch: string | null, id: string) {
-  const notModified = matchesIfNoneMatch(ifNoneMatch, hit.etag);
-  res.statusCode = notModified ? 304 : 200;
-  res.setHeader('etag', hit.etag);
-  res.setHeader('cache-control', hit.cacheControl);
-  if (!notModified) res.setHeader('content-type', hit.contentType);
+  const { status, headers, body } = cachedAnswer(hit, ifNoneMatch);
+  res.statusCode = status;
+  for (const [name, value] of Object.entries(headers)) res.setHeader(name, value);
   res.setHeader('x-request-id', id);
   for (const [name, value] of SECURITY_HEADERS) res.setHeader(name, value);
-  res.end(notModified ? undefined : hit.body);
+  res.end(body ?? undefined);
 }
 
 /** Answers the request when it is a token-bearing GET of a cached immutable representation; false leaves it alone. */

@@ -69,11 +69,20 @@ export class ResponseCache {
   }
 }
 
-/** The cached answer: 304 when If-None-Match names its ETag, else the bytes. */
-export function respondFromCache(entry: CachedRepresentation, ifNoneMatch: string | null): Response {
+/** The cached answer as status, headers and bytes: 304 when If-None-Match names its ETag, else 200. */
+export function cachedAnswer(
+  entry: CachedRepresentation,
+  ifNoneMatch: string | null
+): { status: 200 | 304; headers: Record<string, string>; body: Uint8Array | null } {
   const headers = { etag: entry.etag, 'cache-control': entry.cacheControl };
-  if (matchesIfNoneMatch(ifNoneMatch, entry.etag)) return new Response(null, { status: 304, headers });
-  return new Response(entry.body as BodyInit, { headers: { ...headers, 'content-type': entry.contentType } });
+  if (matchesIfNoneMatch(ifNoneMatch, entry.etag)) return { status: 304, headers, body: null };
+  return { status: 200, headers: { ...headers, 'content-type': entry.contentType }, body: entry.body };
+}
+
+/** The cached answer as a web Response. */
+export function respondFromCache(entry: CachedRepresentation, ifNoneMatch: string | null): Response {
+  const { status, headers, body } = cachedAnswer(entry, ifNoneMatch);
+  return new Response(body as BodyInit | null, { status, headers });
 }
 
 /** A response worth keeping: 200, a strong ETag, and the route's word that it is immutable. */
