@@ -83,18 +83,54 @@ function literalValue(operand: string): number | null {
 }
 
 /**
- * Code that adds every computed output to one of four sums. The sums stay finite while every output
- * is finite; a NaN or an infinity makes them non-finite. A sum of finite values that overflows is a
- * false alarm, settled by the exact scan that follows any alarm. Four sums rather than one keep the
- * additions from forming one long chain.
+ * Code that adds every distinct computed output to one of four sums. The sums stay finite while
+ * every output is finite; a NaN or an infinity makes them non-finite. A sum of finite values that
+ * overflows is a false alarm, settled by the exact scan that follows any alarm. Four sums rather
+ * than one keep the additions from forming one long chain.
  */
 const faultTerms = (operands: string[]) =>
-  operands
-    .filter((v) => literalValue(v) === null)
+  [...new Set(operands.filter((v) => literalValue(v) === null))]
     .map((v, k) => `a${k % 4} += ${v};`)
     .join(' ');
 const FAULT_SUMS = 'let a0 = 0, a1 = 0, a2 = 0, a3 = 0;';
-const FAULT_FREE = '(a0 + a1 + a2 + a3) - (a0 + a1 + a2 + a3) === 0';
+
+/**
+ * Largest magnitude a value's bound may have for the value to be proven finite without a check: the
+ * bound, computed in doubles, may fall short of the exact one by a relative error of about 2⁻⁵² per
+ * operation, far less than the factor of 10⁸ between this and the largest double.
+ */
+const PROVEN_FINITE = numberLiteral(1e300);
+
+/**
+ * Bounds of functions on a finite argument, by the function's name: a constant, `'arg'` (the
+ * argument's bound, or the largest of them), a function of the bound, or null where no bound holds
+ * (a negative argument of sqrt or log, a pole of tan): such a value is always checked.
+ */
+const FUNCTION_BOUNDS: Record<string, ((args: string[]) => string) | null> = {
+  abs: (a) => a[0],
+  sign: () => '1',
+  sin: () => '1',
+  cos: () => '1',
+  tanh: () => '1',
+  sech: () => '1',
+  atan: () => numberLiteral(Math.PI / 2),
+  exp: (a) => `M.exp(${a[0]})`,
+  sinh: (a) => `M.cosh(${a[0]})`,
+  cosh: (a) => `M.cosh(${a[0]})`,
+  min: (a) => `M.max(${a.join(', ')})`,
+  max: (a) => `M.max(${a.join(', ')})`,
+  sqrt: null,
+  log: null,
+  tan: null,
+  asin: null,
+  acos: null,
+  pow: null,
+  sec: null,
+  csc: null,
+  cot: null,
+  csch: null,
+  coth: null
+};
 
 const FUNCTION_NAMES: readonly string[] = [...DERIVATIVE_FUNCTIONS.keys()];
 
@@ -105,33 +141,103 @@ type Value =
 /**
  * Emits one loop body in single-assignment form: every operation a `const`, and an operation
  * written twice (the factor (1 - xi) of a dozen functions and their derivatives) computed once.
+ *
+ * Beside each value it emits, where one holds, a bound on its magnitude (`u5` for `t5`) in terms
+ * of bounds on the inputs' magnitudes: |a ± b| ≤ A + B, |a b| ≤ A B, |a / c| ≤ A / |c| for a
+ * constant c, |sin a| ≤ 1 and so on. Evaluated once per call, before the loop, the bounds prove
+ * every value of a polynomial finite for the batch at hand, and its loop then runs without checks.
+ * A division by a variable, sqrt, log and the like have no bound: their values are always checked.
  */
 class Body {
   readonly lines: string[] = [];
+  /** the bound of every value that has one, in the order the values were made */
+  readonly boundLines: string[] = [];
   private n = 0;
   private readonly seen = new Map<string, string>();
-  constructor(private readonly variables: ReadonlyMap<string, string>) {}
-  private temp(expr: string, key = expr): string {
+  private readonly bounds = new Map<string, string | null>();
+  /**
+   * variables: each symbol's generated local; inputBounds: each local's bound (a name the program
+   * computes from the batch before the loop).
+   */
+  constructor(
+    private readonly variables: ReadonlyMap<string, string>,
+    private readonly inputBounds: ReadonlyMap<string, string>
+  ) {}
+  /** The bound of a value's magnitude: a literal, an input's bound, a temporary's; null for none. */
+  bound(v: string): string | null {
+    const literal = literalValue(v);
+    if (literal !== null) return numberLiteral(Math.abs(literal));
+    return this.inputBounds.get(v) ?? this.bounds.get(v) ?? null;
+  }
+  /** Whether a value is computed (neither a literal nor an input) and has a bound. */
+  provable(v: string): boolean {
+    return literalValue(v) === null && !this.inputBounds.has(v) && this.bounds.get(v) != null;
+  }
+  /** The bound names a proof must find finite: every computed value's that has one. */
+  boundNames(): string[] {
+    return [...this.bounds.values()].filter((b): b is string => b !== null);
+  }
+  /** A bound built from the operands' bounds, or null when one of them has none. */
+  private combine(operands: string[], make: (b: string[]) => string): string | null {
+    const b = operands.map((v) => this.bound(v));
+    return b.every((x) => x !== null) ? make(b as string[]) : null;
+  }
+  private temp(expr: string, bound: string | null, key = expr): string {
     const known = this.seen.get(key);
     if (known) return known;
-    const t = `t${this.n++}`;
+    const k = this.n++;
+    const t = `t${k}`;
     this.lines.push(`const ${t} = ${expr};`);
     this.seen.set(key, t);
+    if (bound !== null) this.boundLines.push(`const u${k} = ${bound};`);
+    this.bounds.set(t, bound === null ? null : `u${k}`);
     return t;
+  }
+  private sum(a: string, symbol: string, b: string): string {
+    return this.temp(
+      `${a} ${symbol} ${b}`,
+      this.combine([a, b], ([x, y]) => `${x} + ${y}`)
+    );
+  }
+  private product(a: string, b: string): string {
+    return this.temp(
+      `${a} * ${b}`,
+      this.combine([a, b], ([x, y]) => `${x} * ${y}`)
+    );
   }
   /** a + b and a * b: the same value whichever operand comes first, so one key for both orders. */
   private commutative(a: string, symbol: string, b: string): string {
     const [x, y] = a <= b ? [a, b] : [b, a];
-    return this.temp(`${a} ${symbol} ${b}`, `${x} ${symbol} ${y}`);
+    return this.temp(
+      `${a} ${symbol} ${b}`,
+      this.combine([a, b], ([p, q]) => `${p} ${symbol} ${q}`),
+      `${x} ${symbol} ${y}`
+    );
   }
   /** x / 2^k as x * 2^-k: the same bits (the reciprocal of a power of two is exact), a cheaper operation. */
   private divide(a: string, b: string, divisor: number | null): string {
     if (divisor !== null && divisor !== 0 && Number.isFinite(1 / divisor)) {
       const exponent = Math.log2(Math.abs(divisor));
       if (Number.isInteger(exponent) && Math.abs(exponent) < 1000)
-        return this.temp(`${a} * ${numberLiteral(1 / divisor)}`);
+        return this.product(a, numberLiteral(1 / divisor));
+      return this.temp(
+        `${a} / ${b}`,
+        this.combine([a], ([x]) => `${x} / ${numberLiteral(Math.abs(divisor))}`)
+      );
     }
-    return this.temp(`${a} / ${b}`);
+    return this.temp(`${a} / ${b}`, null);
+  }
+  /** a ^ b: bounded for a whole exponent from 1 to 64, else always checked. */
+  private power(a: string, b: string): string {
+    const e = literalValue(b);
+    const bound =
+      e !== null && Number.isInteger(e) && e >= 1 && e <= 64
+        ? this.combine([a], ([x]) => `M.pow(${x}, ${b})`)
+        : null;
+    return this.temp(`M.pow(${a}, ${b})`, bound);
+  }
+  private negate(a: string): string {
+    return this.temp(`-${a}`, this.bound(a));
   }
   scalar(node: MathNode): string {
     const v = this.value(node);
@@ -162,7 +268,9 @@ class Body {
         if (!name || f.fn.type !== 'SymbolNode')
           throw new SandboxError('invalid', `the function '${f.fn.name}' is not allowed`);
         const args = f.args.map((a) => this.scalar(a));
-        return { kind: 'scalar', v: this.temp(`M.${name}(${args.join(', ')})`) };
+        const rule = FUNCTION_BOUNDS[name];
+        const bound = rule ? this.combine(args, rule) : null;
+        return { kind: 'scalar', v: this.temp(`M.${name}(${args.join(', ')})`, bound) };
       }
       case 'ArrayNode': {
         const items = (node as ArrayNode).items;
@@ -197,18 +305,18 @@ class Body {
       if (o.fn !== 'unaryMinus')
         throw new SandboxError('invalid', `the operator '${o.op}' cannot be compiled`);
       return a.kind === 'scalar'
-        ? { kind: 'scalar', v: this.temp(`-${a.v}`) }
-        : { ...a, v: a.v.map((x) => this.temp(`-${x}`)) };
+        ? { kind: 'scalar', v: this.negate(a.v) }
+        : { ...a, v: a.v.map((x) => this.negate(x)) };
     }
     const a = this.value(o.args[0]);
     const b = this.value(o.args[1]);
     const symbol = { add: '+', subtract: '-', multiply: '*', divide: '/' }[o.fn as string];
     if (a.kind === 'scalar' && b.kind === 'scalar') {
-      if (o.fn === 'pow') return { kind: 'scalar', v: this.temp(`M.pow(${a.v}, ${b.v})`) };
+      if (o.fn === 'pow') return { kind: 'scalar', v: this.power(a.v, b.v) };
       if (!symbol) throw new SandboxError('invalid', `the operator '${o.op}' cannot be compiled`);
       if (symbol === '+' || symbol === '*') return { kind: 'scalar', v: this.commutative(a.v, symbol, b.v) };
       if (symbol === '/') return { kind: 'scalar', v: this.divide(a.v, b.v, literalValue(b.v)) };
-      return { kind: 'scalar', v: this.temp(`${a.v} ${symbol} ${b.v}`) };
+      return { kind: 'scalar', v: this.sum(a.v, symbol, b.v) };
     }
     if (
       (o.fn === 'add' || o.fn === 'subtract') &&
@@ -217,11 +325,13 @@ class Body {
       a.rows === b.rows &&
       a.cols === b.cols
     )
-      return { ...a, v: a.v.map((x, k) => this.temp(`${x} ${symbol} ${b.v[k]}`)) };
+      return { ...a, v: a.v.map((x, k) => this.sum(x, symbol!, b.v[k])) };
     if (o.fn === 'multiply' && a.kind === 'scalar' && b.kind === 'matrix')
-      return { ...b, v: b.v.map((x) => this.temp(`${a.v} * ${x}`)) };
-    if ((o.fn === 'multiply' || o.fn === 'divide') && a.kind === 'matrix' && b.kind === 'scalar')
-      return { ...a, v: a.v.map((x) => this.temp(`${x} ${symbol} ${b.v}`)) };
+      return { ...b, v: b.v.map((x) => this.product(a.v, x)) };
+    if (o.fn === 'multiply' && a.kind === 'matrix' && b.kind === 'scalar')
+      return { ...a, v: a.v.map((x) => this.product(x, b.v)) };
+    if (o.fn === 'divide' && a.kind === 'matrix' && b.kind === 'scalar')
+      return { ...a, v: a.v.map((x) => this.divide(x, b.v, literalValue(b.v))) };
     if (
       o.fn === 'multiply' &&
       a.kind === 'matrix' &&
@@ -234,8 +344,18 @@ class Body {
       for (let i = 0; i < a.rows; i++)
         for (let j = 0; j < b.cols; j++) {
           const terms: string[] = [];
-          for (let k = 0; k < a.cols; k++) terms.push(`${a.v[i * a.cols + k]} * ${b.v[k * b.cols + j]}`);
-          v.push(this.temp(terms.join(' + ')));
+          const factors: string[] = [];
+          for (let k = 0; k < a.cols; k++) {
+            terms.push(`${a.v[i * a.cols + k]} * ${b.v[k * b.cols + j]}`);
+            factors.push(a.v[i * a.cols + k], b.v[k * b.cols + j]);
+          }
+          const bound = this.combine(factors, (f) =>
+            f
+              .filter((_, k) => k % 2 === 0)
+              .map((x, k) => `${x} * ${f[2 * k + 1]}`)
+              .join(' + ')
+          );
+          v.push(this.temp(terms.join(' + '), bound));
         }
       return { kind: 'matrix', rows: a.rows, cols: b.cols, vector: false, v };
     }
@@ -308,13 +428,74 @@ function validateShape(def: Definition): { nodes: number; dim: number } {
   return { nodes: def.shape.length, dim };
 }
 
+/**
+ * The loop of one entry point and what tells, after it, whether every value it stored is finite.
+ * Where some computed value has a bound, the loop adds up the magnitudes of the inputs it reads
+ * (a non-finite input makes the sum non-finite) and afterwards the bounds of every value follow
+ * from those sums: when all are at most PROVEN_FINITE, every value of the batch is finite and the
+ * loop needed to check only the values without a bound. Otherwise it checks every value. A value
+ * that is a literal needs no check. Every value is stored, literal zeros too: R may hold anything
+ * when the call starts (an earlier call's results, or memory the host did not clear). `code` ends
+ * with `finite` true when every value is proven or checked finite, false when the exact scan must
+ * decide.
+ */
+function loop(opts: {
+  body: Body;
+  outputs: string[];
+  /** per-iteration code before the body (loads) */
+  head: string;
+  /** the inputs the loop reads, and the name of each one's bound */
+  inputs: string[];
+  inputBounds: string[];
+  /** the loop header, such as `for (let q = 0; q < n; q++) {` */
+  header: string;
+  /** whether the inputs must be checked even when no output reads them */
+  checkInputs: boolean;
+  store: (value: string, k: number) => string;
+  /** code after the loop that turns the sums of magnitudes into the bounds the values' bounds use */
+  prelude?: string;
+}): string {
+  const { body, outputs } = opts;
+  const stores = outputs.map((v, k) => opts.store(v, k)).join('\n');
+  const proving = outputs.some((v) => body.provable(v));
+  const bounds = [...new Set(opts.inputBounds)];
+  const magnitudes = proving
+    ? opts.inputs.map((v, k) => `${opts.inputBounds[k]} += M.abs(${v});`).join(' ')
+    : '';
+  const checks = proving
+    ? faultTerms(outputs.filter((v) => literalValue(v) === null && body.bound(v) === null))
+    : faultTerms([...(opts.checkInputs ? opts.inputs : []), ...outputs]);
+  const proof = [...bounds, ...body.boundNames()].map((u) => `${u} <= ${PROVEN_FINITE}`).join(' && ');
+  return `${FAULT_SUMS}
+${proving ? `let ${bounds.map((b) => `${b} = 0`).join(', ')};` : ''}
+${opts.header}
+${opts.head}
+${magnitudes}
+${body.lines.join('\n')}
+${stores}
+${checks}
+}
+const s = a0 + a1 + a2 + a3;
+let finite = s - s === 0;
+${
+  proving
+    ? `if (finite) {
+${opts.prelude ?? ''}
+${body.boundLines.join('\n')}
+finite = ${proof};
+}`
+    : ''
+}`;
+}
+
 /** Compiles every expression of a definition into one program: `tabulate` and one entry per custom field. */
 export function compileDefinition(def: Definition): CompiledProgram {
   const { nodes, dim } = validateShape(def);
   const out: string[] = [];
   const coordVars = new Map(def.coordinates.map((c, k) => [c, `c${k}`] as const));
-  // one loop body for every shape function and derivative, so common factors are computed once per point
-  const body = new Body(coordVars);
+  // one loop body for every shape function and derivative, so common factors are computed once per
+  // point; every coordinate is bounded by the sum of the magnitudes of all of them
+  const body = new Body(coordVars, new Map(def.coordinates.map((_, k) => [`c${k}`, 'm'] as const)));
   const shapeValues = def.shape.map((text, i) =>
     body.scalar(checked(def, text, 'shape', `shape[${i}]`).node)
   );
@@ -322,29 +503,26 @@ export function compileDefinition(def: Definition): CompiledProgram {
     row.map((text, k) => body.scalar(checked(def, text, 'derivatives', `derivatives[${i}][${k}]`).node))
   );
   const loads = def.coordinates.map((_, k) => `const c${k} = P[p + ${k}];`).join(' ');
-  const stores = [
-    ...shapeValues.map((v, i) => `N[o + ${i}] = ${v};`),
-    ...derivValues.flatMap((row, i) => row.map((v, k) => `dN[d + ${i * dim + k}] = ${v};`))
-  ].join('\n');
-  const checks = faultTerms([...shapeValues, ...derivValues.flat()]);
-  const inputChecks = def.coordinates.map((_, k) => `a${k % 4} += c${k};`).join(' ');
-  // I: the points (n × dim); R: N (n × nodes) and then dN (n × nodes × dim). The result is -1 when
-  // every value is finite, -2 for a non-finite coordinate, the index into N of the first non-finite
-  // N, or -3 - the index into dN of the first non-finite derivative.
+  // I: the points (n × dim); R: N (n × nodes) and then dN (n × nodes × dim).
+  // The result is -1 when every value is finite, -2 for a non-finite coordinate, the index into N
+  // of the first non-finite N, or -3 - the index into dN of the first non-finite derivative.
   out.push(`function tabulate(I, R, n) {
 const P = I;
 const N = R.subarray(0, n * ${nodes});
 const dN = R.subarray(n * ${nodes}, n * ${nodes * (dim + 1)});
-${FAULT_SUMS}
-for (let q = 0; q < n; q++) {
-const p = q * ${dim}; const o = q * ${nodes}; const d = q * ${nodes * dim};
-${loads}
-${inputChecks}
-${body.lines.join('\n')}
-${stores}
-${checks}
-}
-if (${FAULT_FREE}) return -1;
+${loop({
+  body,
+  outputs: [...shapeValues, ...derivValues.flat()],
+  head: `const p = q * ${dim}; const o = q * ${nodes}; const d = q * ${nodes * dim};\n${loads}`,
+  inputs: def.coordinates.map((_, k) => `c${k}`),
+  // the coordinates share one bound, the sum of all their magnitudes, kept in two sums
+  inputBounds: def.coordinates.map((_, k) => `m${k % 2}`),
+  header: 'for (let q = 0; q < n; q++) {',
+  checkInputs: true,
+  store: (v, k) => (k < nodes ? `N[o + ${k}] = ${v};` : `dN[d + ${k - nodes}] = ${v};`),
+  prelude: dim === 1 ? 'const m = m0;' : 'const m = m0 + m1;'
+})}
+if (finite) return -1;
 if (fault(P) >= 0) return -2;
 const fN = fault(N);
 if (fN >= 0) return fN;
@@ -404,7 +582,7 @@ return fD >= 0 ? -3 - fD : -1;
     const symbols: string[] = [];
     for (const t of trees) for (const s of symbolsOf(t)) if (!symbols.includes(s)) symbols.push(s);
     const variables = new Map(symbols.map((s, k) => [s, `v${k}`] as const));
-    const body = new Body(variables);
+    const body = new Body(variables, new Map(symbols.map((_, k) => [`v${k}`, `m${k}`] as const)));
     const values: string[] = [];
     let rows = 0;
     let cols = 0;
@@ -447,15 +625,17 @@ const L = I.subarray(0, ${2 * symbols.length});
 const V = I.subarray(${2 * symbols.length});
 const O = R;
 ${hoist}
-${FAULT_SUMS}
-for (let e = 0; e < n; e++) {
-const o = e * ${size};
-${loads}
-${body.lines.join('\n')}
-${values.map((v, k) => `O[o + ${k}] = ${v};`).join('\n')}
-${faultTerms(values)}
-}
-return ${FAULT_FREE} ? -1 : fault(O);
+${loop({
+  body,
+  outputs: values,
+  head: `const o = e * ${size};\n${loads}`,
+  inputs: symbols.map((_, k) => `v${k}`),
+  inputBounds: symbols.map((_, k) => `m${k}`),
+  header: 'for (let e = 0; e < n; e++) {',
+  checkInputs: false,
+  store: (v, k) => `O[o + ${k}] = ${v};`
+})}
+return finite ? -1 : fault(O);
 }`);
     fields[ref] = { entry, symbols, size, rows, cols };
   }

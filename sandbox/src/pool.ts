@@ -1,8 +1,8 @@
 // A warm pool of isolated-vm isolates. Each isolate has a memory limit, every call a time limit;
 // an isolate that timed out, ran out of memory or broke is disposed and replaced, and the fault
-// comes back as a SandboxError; one that has been handed more moved buffers than half its limit is
-// recycled. The host process never runs the compiled code itself.
+// comes back as a SandboxError. The host process never runs the compiled code itself.
 import ivm from 'isolated-vm';
+import { Buffer } from 'node:buffer';
 import { availableParallelism } from 'node:os';
 import type { Definition } from '@isoledger/formulation';
 import { compileDefinition, FIELD_REFS, type CompiledProgram, type FieldRef } from './compile';
@@ -44,8 +44,6 @@ interface Worker {
   runMoved: ivm.Reference<(...args: unknown[]) => unknown>;
   /** the arena shared with the isolate (inputs are written and results read here) */
   A: Float64Array;
-  /** whether buffers were moved through this isolate since it was last checked */
-  moved: boolean;
 }
 
 /**
@@ -55,6 +53,19 @@ interface Worker {
 const ARENA_DOUBLES = 1_048_576;
 
 const isFloat64 = (v: unknown): v is Float64Array => v instanceof Float64Array;
+
+/**
+ * A Float64Array of `length` numbers in memory that is not cleared first: for a buffer whose every
+ * number is written before anyone reads it (a program's input as `write` fills it, its results as
+ * the program stores them), which saves clearing up to hundreds of MB per call. Buffer.allocUnsafe
+ * of this size gets an ArrayBuffer of its own (never a slice of Node's shared pool), which can be
+ * moved into an isolate.
+ */
+function uncleared(length: number): Float64Array {
+  if (length * 8 <= Buffer.poolSize) return new Float64Array(length);
+  const bytes = Buffer.allocUnsafe(length * 8);
+  return new Float64Array(bytes.buffer, bytes.byteOffset, length);
+}
 
 /** Runs compiled formulation expressions inside isolates; the only place compiled user code runs. */
 export class SandboxPool {
@@ -72,7 +83,6 @@ export class SandboxPool {
   readonly stats = {
     isolatesStarted: 0,
     isolatesReplaced: 0,
-    isolatesRecycled: 0,
     calls: 0,
     programsInstalled: 0
   };
@@ -329,8 +339,7 @@ export class SandboxPool {
         runMoved,
         A: new Float64Array(arena),
         installed: new Map(),
-        broken: false,
-        moved: false
+        broken: false
       };
       this.stats.isolatesStarted++;
       return w;
@@ -369,27 +378,16 @@ export class SandboxPool {
       this.retire(w);
       return;
     }
-    if (w.moved) {
-      // a moved buffer stays counted against the isolate until the isolate collects its garbage,
-      // which a heap this small seldom needs: recycle it before the count nears the limit
-      w.moved = false;
-      const heap = w.isolate.getHeapStatisticsSync();
-      if (heap.externally_allocated_size + heap.used_heap_size > (this.memoryLimitMb * 2 ** 20) / 2) {
-        this.retire(w, true);
-        return;
-      }
-    }
     const next = this.waiters.shift();
     if (next) next(w);
     else this.idle.push(w);
   }
 
-  /** Disposes a faulted isolate, or a sound one whose count of moved buffers grew; a waiting call gets a fresh one. */
-  private retire(w: Worker, recycled = false) {
+  /** Disposes a faulted isolate; a waiting call gets a fresh one. */
+  private retire(w: Worker) {
     this.kill(w);
     this.workers.delete(w);
-    if (recycled) this.stats.isolatesRecycled++;
-    else this.stats.isolatesReplaced++;
+    this.stats.isolatesReplaced++;
     const next = this.waiters.shift();
     if (next)
       this.acquire().then(next, () => {
@@ -466,11 +464,13 @@ export class SandboxPool {
         });
         return { code: this.codeOf(w, program, code, what), R: w.A.slice(inLength, inLength + outLength) };
       }
-      // the input goes through the arena when it fits, else it is written into a buffer moved in
-      const I = inLength <= w.A.length ? null : new Float64Array(inLength);
+      // the input goes through the arena when it fits, else it is written into a buffer moved in.
+      // A moved buffer stays counted against the isolate's limit until the isolate collects the
+      // handle it held; isolated-vm runs a full collection when the count reaches the limit, so
+      // the isolate serves on without a restart (a restart would cost a cold start and a new JIT).
+      const I = inLength <= w.A.length ? null : uncleared(inLength);
       write(I ?? w.A.subarray(0, inLength));
-      const R = new Float64Array(outLength);
-      w.moved = true;
+      const R = uncleared(outLength);
       const result = (await w.runMoved.apply(
         undefined,
         [

@@ -12,7 +12,7 @@
  * passes only numbers and returns one, the host reads the results back: nothing is created per
  * call); `__runMoved` for a larger batch, whose result buffer the host allocated and moves in, and
  * which is moved back out without a copy; its input is in the arena when it fits (I is then its
- * length), else moved in as well.
+ * length), else moved in as well. A program writes every number of R, whatever R held before.
  */
 export const BOOTSTRAP = `(function () {
 'use strict';
