@@ -1,6 +1,7 @@
 // A warm pool of isolated-vm isolates. Each isolate has a memory limit, every call a time limit;
 // an isolate that timed out, ran out of memory or broke is disposed and replaced, and the fault
-// comes back as a SandboxError. The host process never runs the compiled code itself.
+// comes back as a SandboxError; one that has been handed more moved buffers than half its limit is
+// recycled. The host process never runs the compiled code itself.
 import ivm from 'isolated-vm';
 import { Buffer } from 'node:buffer';
 import { availableParallelism } from 'node:os';
@@ -44,13 +45,17 @@ interface Worker {
   runMoved: ivm.Reference<(...args: unknown[]) => unknown>;
   /** the arena shared with the isolate (inputs are written and results read here) */
   A: Float64Array;
+  /** whether buffers were moved through this isolate since it was last checked */
+  moved: boolean;
 }
 
 /**
- * Doubles in each isolate's shared arena (8 MiB): a batch whose input and results fit goes through it
- * without creating anything per call.
+ * Doubles in each isolate's shared arena: 8 MiB, or an eighth of the isolate's memory limit when
+ * that is less (the arena counts against the limit). A batch whose input and results fit goes
+ * through it without creating anything per call.
  */
 const ARENA_DOUBLES = 1_048_576;
+const arenaDoubles = (memoryLimitMb: number) => Math.min(ARENA_DOUBLES, (memoryLimitMb * 2 ** 20) / 8 / 8);
 
 const isFloat64 = (v: unknown): v is Float64Array => v instanceof Float64Array;
 
@@ -83,6 +88,7 @@ export class SandboxPool {
   readonly stats = {
     isolatesStarted: 0,
     isolatesReplaced: 0,
+    isolatesRecycled: 0,
     calls: 0,
     programsInstalled: 0
   };
@@ -294,10 +300,15 @@ export class SandboxPool {
     return program;
   }
 
-  /** Refuses a batch whose input and results, moved through the isolate, would not fit its memory limit twice over. */
+  /**
+   * Refuses a batch whose input and results, moved through the isolate, would not fit twice over in
+   * what its memory limit leaves beside the arena: a moved buffer of the call before may still be
+   * counted when the next one arrives.
+   */
   private checkMemory(doubles: number, what: string) {
     const bytes = doubles * 8 * 2;
-    if (bytes > this.memoryLimitMb * 2 ** 20)
+    const limit = this.memoryLimitMb * 2 ** 20;
+    if (bytes > limit - arenaDoubles(this.memoryLimitMb) * 8)
       throw new SandboxError(
         'memory',
         `${what} needs about ${Math.ceil(bytes / 2 ** 20)} MB; the sandbox's limit is ${this.memoryLimitMb} MB: split the batch`
@@ -324,7 +335,7 @@ export class SandboxPool {
       const runMoved = (await context.global.get('__runMoved', { reference: true })) as ivm.Reference<
         (...args: unknown[]) => unknown
       >;
-      const arena = new SharedArrayBuffer(ARENA_DOUBLES * 8);
+      const arena = new SharedArrayBuffer(arenaDoubles(this.memoryLimitMb) * 8);
       await context.evalClosure(
         'return __arena($0)',
         [new ivm.ExternalCopy(arena).copyInto({ release: true })],
@@ -339,7 +350,8 @@ export class SandboxPool {
         runMoved,
         A: new Float64Array(arena),
         installed: new Map(),
-        broken: false
+        broken: false,
+        moved: false
       };
       this.stats.isolatesStarted++;
       return w;
@@ -378,16 +390,28 @@ export class SandboxPool {
       this.retire(w);
       return;
     }
+    if (w.moved) {
+      // a moved buffer stays counted against the isolate until the isolate collects the handle it
+      // held, which isolated-vm's own collection at the limit does not always manage in time:
+      // recycle the isolate before the count nears the limit
+      w.moved = false;
+      const heap = w.isolate.getHeapStatisticsSync();
+      if (heap.externally_allocated_size + heap.used_heap_size > (this.memoryLimitMb * 2 ** 20) / 2) {
+        this.retire(w, true);
+        return;
+      }
+    }
     const next = this.waiters.shift();
     if (next) next(w);
     else this.idle.push(w);
   }
 
-  /** Disposes a faulted isolate; a waiting call gets a fresh one. */
-  private retire(w: Worker) {
+  /** Disposes a faulted isolate, or a sound one whose count of moved buffers grew; a waiting call gets a fresh one. */
+  private retire(w: Worker, recycled = false) {
     this.kill(w);
     this.workers.delete(w);
-    this.stats.isolatesReplaced++;
+    if (recycled) this.stats.isolatesRecycled++;
+    else this.stats.isolatesReplaced++;
     const next = this.waiters.shift();
     if (next)
       this.acquire().then(next, () => {
@@ -464,13 +488,11 @@ export class SandboxPool {
         });
         return { code: this.codeOf(w, program, code, what), R: w.A.slice(inLength, inLength + outLength) };
       }
-      // the input goes through the arena when it fits, else it is written into a buffer moved in.
-      // A moved buffer stays counted against the isolate's limit until the isolate collects the
-      // handle it held; isolated-vm runs a full collection when the count reaches the limit, so
-      // the isolate serves on without a restart (a restart would cost a cold start and a new JIT).
+      // the input goes through the arena when it fits, else it is written into a buffer moved in
       const I = inLength <= w.A.length ? null : uncleared(inLength);
       write(I ?? w.A.subarray(0, inLength));
       const R = uncleared(outLength);
+      w.moved = true;
       const result = (await w.runMoved.apply(
         undefined,
         [
