@@ -503,30 +503,29 @@ export function compileDefinition(def: Definition): CompiledProgram {
     row.map((text, k) => body.scalar(checked(def, text, 'derivatives', `derivatives[${i}][${k}]`).node))
   );
   const loads = def.coordinates.map((_, k) => `const c${k} = P[p + ${k}];`).join(' ');
-  // I: the points (n × dim); R: N (n × nodes) and then dN (n × nodes × dim).
+  // I: the points (n × dim); R: N (n × nodes) and then dN (n × nodes × dim), from D on.
   // The result is -1 when every value is finite, -2 for a non-finite coordinate, the index into N
   // of the first non-finite N, or -3 - the index into dN of the first non-finite derivative.
   out.push(`function tabulate(I, R, n) {
 const P = I;
-const N = R.subarray(0, n * ${nodes});
-const dN = R.subarray(n * ${nodes}, n * ${nodes * (dim + 1)});
+const D = n * ${nodes};
 ${loop({
   body,
   outputs: [...shapeValues, ...derivValues.flat()],
-  head: `const p = q * ${dim}; const o = q * ${nodes}; const d = q * ${nodes * dim};\n${loads}`,
+  head: `const p = q * ${dim}; const o = q * ${nodes}; const d = D + q * ${nodes * dim};\n${loads}`,
   inputs: def.coordinates.map((_, k) => `c${k}`),
   // the coordinates share one bound, the sum of all their magnitudes, kept in two sums
   inputBounds: def.coordinates.map((_, k) => `m${k % 2}`),
   header: 'for (let q = 0; q < n; q++) {',
   checkInputs: true,
-  store: (v, k) => (k < nodes ? `N[o + ${k}] = ${v};` : `dN[d + ${k - nodes}] = ${v};`),
+  store: (v, k) => (k < nodes ? `R[o + ${k}] = ${v};` : `R[d + ${k - nodes}] = ${v};`),
   prelude: dim === 1 ? 'const m = m0;' : 'const m = m0 + m1;'
 })}
 if (finite) return -1;
-if (fault(P) >= 0) return -2;
-const fN = fault(N);
+if (fault(P, 0, n * ${dim}) >= 0) return -2;
+const fN = fault(R, 0, D);
 if (fN >= 0) return fN;
-const fD = fault(dN);
+const fD = fault(R, D, D + n * ${nodes * dim});
 return fD >= 0 ? -3 - fD : -1;
 }`);
 
@@ -613,17 +612,17 @@ return fD >= 0 ? -3 - fD : -1;
       );
     const size = values.length;
     const entry = `e_${ref.replace('.', '_')}`;
-    // I: L, (base, stride) per symbol, then V, every symbol's values (symbol k reads
-    // V[base_k + entry × stride_k], stride 0 for a constant); R: the n × size results. The result is
-    // -1, or the index into R of the first non-finite value.
+    // I: (base, stride) per symbol, then every symbol's values (symbol k reads
+    // I[2 × symbols + base_k + entry × stride_k], stride 0 for a constant); R: the n × size
+    // results. The result is -1, or the index into R of the first non-finite value.
     const hoist = symbols
-      .map((_, k) => `const b${k} = L[${2 * k}] | 0; const s${k} = L[${2 * k + 1}] | 0;`)
+      .map(
+        (_, k) =>
+          `const b${k} = (I[${2 * k}] | 0) + ${2 * symbols.length}; const s${k} = I[${2 * k + 1}] | 0;`
+      )
       .join(' ');
-    const loads = symbols.map((_, k) => `const v${k} = V[b${k} + e * s${k}];`).join(' ');
+    const loads = symbols.map((_, k) => `const v${k} = I[b${k} + e * s${k}];`).join(' ');
     out.push(`function ${entry}(I, R, n) {
-const L = I.subarray(0, ${2 * symbols.length});
-const V = I.subarray(${2 * symbols.length});
-const O = R;
 ${hoist}
 ${loop({
   body,
@@ -633,18 +632,18 @@ ${loop({
   inputBounds: symbols.map((_, k) => `m${k}`),
   header: 'for (let e = 0; e < n; e++) {',
   checkInputs: false,
-  store: (v, k) => `O[o + ${k}] = ${v};`
+  store: (v, k) => `R[o + ${k}] = ${v};`
 })}
-return finite ? -1 : fault(O);
+return finite ? -1 : fault(R, 0, n * ${size});
 }`);
     fields[ref] = { entry, symbols, size, rows, cols };
   }
   const entries = ['tabulate', ...Object.values(fields).map((f) => `${f!.entry}: ${f!.entry}`)];
   const source = `(function (M) {
 'use strict';
-function fault(a) { for (let i = 0; i < a.length; i++) { const v = a[i]; if (v - v !== 0) return i; } return -1; }
+function fault(a, from, to) { for (let i = from; i < to; i++) { const v = a[i]; if (v - v !== 0) return i - from; } return -1; }
 ${out.join('\n')}
-return Object.freeze({ ${entries.join(', ')} });
+return { ${entries.join(', ')} };
 })`;
   return { key: programKey(def), source, nodes, dim, fields, missing };
 }

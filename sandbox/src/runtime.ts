@@ -35,7 +35,7 @@ const entryOf = function (key, entry) {
   const fn = program[entry];
   return typeof fn === 'function' ? fn : null;
 };
-globalThis.__install = function (key, factory) { programs.set(key, factory(M)); return true; };
+globalThis.__install = function (key, factory) { programs.set(key, Object.freeze(factory(M))); return true; };
 globalThis.__unload = function (key) { programs.delete(key); return true; };
 globalThis.__arena = function (sab) { A = new Float64Array(sab); return A.length; };
 globalThis.__run = function (key, entry, inLength, outLength, n) {

@@ -413,6 +413,11 @@ describe('compiled programs', () => {
     ])
       expect(source.includes(word), word).toBe(false);
     expect(source).toMatch(/const t\d+ = c0 \* 0\.125;/);
+    // plain arithmetic on locals: the only property access is a function of the frozen math table
+    const accesses = [...source.matchAll(/([A-Za-z_$][\w$]*)\s*\.\s*([A-Za-z_$][\w$]*)/g)];
+    expect(accesses.length).toBeGreaterThan(0);
+    for (const [text, object] of accesses) expect(object, text).toBe('M');
+    expect(source).not.toMatch(/\[\s*['"`]/);
   });
 
   it('check a polynomial element’s values by bounds, and a rational one’s by sums in the loop', () => {
