@@ -102,9 +102,9 @@ const FAULT_SUMS = 'let a0 = 0, a1 = 0, a2 = 0, a3 = 0;';
 const PROVEN_FINITE = numberLiteral(1e300);
 
 /**
- * Bounds of functions on a finite argument, by the function's name: a constant, `'arg'` (the
- * argument's bound, or the largest of them), a function of the bound, or null where no bound holds
- * (a negative argument of sqrt or log, a pole of tan): such a value is always checked.
+ * Bounds of functions on a finite argument, by the function's name, built from the arguments'
+ * bounds; null where no bound holds (a negative argument of sqrt or log, a pole of tan): such a
+ * value is always checked.
  */
 const FUNCTION_BOUNDS: Record<string, ((args: string[]) => string) | null> = {
   abs: (a) => a[0],
@@ -144,8 +144,9 @@ type Value =
  *
  * Beside each value it emits, where one holds, a bound on its magnitude (`u5` for `t5`) in terms
  * of bounds on the inputs' magnitudes: |a ± b| ≤ A + B, |a b| ≤ A B, |a / c| ≤ A / |c| for a
- * constant c, |sin a| ≤ 1 and so on. Evaluated once per call, before the loop, the bounds prove
- * every value of a polynomial finite for the batch at hand, and its loop then runs without checks.
+ * constant c, |sin a| ≤ 1 and so on. Evaluated once per call, after the loop, from the magnitudes
+ * of the inputs it read, the bounds prove every value of a polynomial finite for the batch at hand,
+ * so its loop runs without per-value checks.
  * A division by a variable, sqrt, log and the like have no bound: their values are always checked.
  */
 class Body {
@@ -200,10 +201,7 @@ class Body {
     );
   }
   private product(a: string, b: string): string {
-    return this.temp(
-      `${a} * ${b}`,
-      this.combine([a, b], ([x, y]) => `${x} * ${y}`)
-    );
+    return this.commutative(a, '*', b);
   }
   /** a + b and a * b: the same value whichever operand comes first, so one key for both orders. */
   private commutative(a: string, symbol: string, b: string): string {
@@ -452,8 +450,6 @@ function loop(opts: {
   /** whether the inputs must be checked even when no output reads them */
   checkInputs: boolean;
   store: (value: string, k: number) => string;
-  /** code after the loop that turns the sums of magnitudes into the bounds the values' bounds use */
-  prelude?: string;
 }): string {
   const { body, outputs } = opts;
   const stores = outputs.map((v, k) => opts.store(v, k)).join('\n');
@@ -480,7 +476,6 @@ let finite = s - s === 0;
 ${
   proving
     ? `if (finite) {
-${opts.prelude ?? ''}
 ${body.boundLines.join('\n')}
 finite = ${proof};
 }`
@@ -494,8 +489,13 @@ export function compileDefinition(def: Definition): CompiledProgram {
   const out: string[] = [];
   const coordVars = new Map(def.coordinates.map((c, k) => [c, `c${k}`] as const));
   // one loop body for every shape function and derivative, so common factors are computed once per
-  // point; every coordinate is bounded by the sum of the magnitudes of all of them
-  const body = new Body(coordVars, new Map(def.coordinates.map((_, k) => [`c${k}`, 'm'] as const)));
+  // point; coordinates 0 and 2 share one sum of magnitudes, coordinate 1 has its own (two sums keep
+  // the additions from forming one chain), and each is bounded by its sum
+  const magnitudeOf = (k: number) => `m${k % 2}`;
+  const body = new Body(
+    coordVars,
+    new Map(def.coordinates.map((_, k) => [`c${k}`, magnitudeOf(k)] as const))
+  );
   const shapeValues = def.shape.map((text, i) =>
     body.scalar(checked(def, text, 'shape', `shape[${i}]`).node)
   );
@@ -514,12 +514,10 @@ ${loop({
   outputs: [...shapeValues, ...derivValues.flat()],
   head: `const p = q * ${dim}; const o = q * ${nodes}; const d = D + q * ${nodes * dim};\n${loads}`,
   inputs: def.coordinates.map((_, k) => `c${k}`),
-  // the coordinates share one bound, the sum of all their magnitudes, kept in two sums
-  inputBounds: def.coordinates.map((_, k) => `m${k % 2}`),
+  inputBounds: def.coordinates.map((_, k) => magnitudeOf(k)),
   header: 'for (let q = 0; q < n; q++) {',
   checkInputs: true,
-  store: (v, k) => (k < nodes ? `R[o + ${k}] = ${v};` : `R[d + ${k - nodes}] = ${v};`),
-  prelude: dim === 1 ? 'const m = m0;' : 'const m = m0 + m1;'
+  store: (v, k) => (k < nodes ? `R[o + ${k}] = ${v};` : `R[d + ${k - nodes}] = ${v};`)
 })}
 if (finite) return -1;
 if (fault(P, 0, n * ${dim}) >= 0) return -2;
